@@ -1,0 +1,247 @@
+/**
+ * The station file: one JSON document describing one balance as it is set up
+ * (CONTRACT.md). Validated once at the boundary; everything inward receives a
+ * typed, trusted `Station`.
+ */
+import { readFileSync } from 'node:fs';
+import { z } from 'zod';
+import { TIME_ROLES, VALUE_ROLES } from './block.js';
+
+const pos = (what = 'must be > 0') => z.number(what === 'must be > 0' ? 'must be a number' : what).positive(what);
+const finite = () => z.number('must be a number').finite('must be finite');
+
+const columnRole = z.enum([...TIME_ROLES, ...VALUE_ROLES, '_'] as [string, ...string[]], {
+  error: `must be one of ${[...TIME_ROLES, ...VALUE_ROLES, '_'].join(', ')}`,
+});
+
+const fibreSchema = z.strictObject({
+  name: z.string('must be a string').min(1, 'must not be empty'),
+  material: z.string('must be a string').optional(),
+  /** round fibre */
+  diameter_m: pos().optional(),
+  length_m: pos().optional(),
+  /** flat ribbon (width ≫ thickness) instead of a round fibre */
+  width_m: pos().optional(),
+  thickness_m: pos().optional(),
+  /** overrides of the materials table */
+  shear_modulus_Pa: pos().optional(),
+  tensile_strength_Pa: pos().optional(),
+});
+
+const partSchema = z.strictObject({
+  shape: z.enum(['point', 'rod', 'bar', 'disc', 'cylinder', 'ring', 'sphere'], { error: 'must be one of point, rod, bar, disc, cylinder, ring, sphere' }),
+  mass_kg: pos(),
+  /** distance of the part's centre from the fibre axis */
+  offset_m: z.number('must be a number').nonnegative('must be ≥ 0').default(0),
+  length_m: pos().optional(),
+  width_m: pos().optional(),
+  radius_m: pos().optional(),
+  inner_radius_m: z.number('must be a number').nonnegative('must be ≥ 0').optional(),
+  outer_radius_m: pos().optional(),
+  count: z.number('must be a number').int('must be an integer').positive('must be > 0').default(1),
+});
+
+const pendulumSchema = z.strictObject({
+  inertia_kg_m2: pos().optional(),
+  inertia_sigma_kg_m2: z.number('must be a number').nonnegative('must be ≥ 0').optional(),
+  /** suspended mass, for the tensile load on the fibre */
+  mass_kg: pos().optional(),
+  /** parts list, when the inertia is to be computed */
+  parts: z.array(partSchema).optional(),
+});
+
+const channelSchema = z.strictObject({
+  role: columnRole,
+  /** multiply the raw i32 by this to get the role's unit */
+  scale: finite().default(1),
+});
+
+const inputSchema = z.strictObject({
+  device: z.string('must be a string').min(1, 'must not be empty').optional(),
+  baud: z.number('must be a number').int('must be an integer').positive('must be > 0').default(115200),
+  format: z.enum(['lines', 'frames'], { error: 'must be "lines" or "frames"' }).default('lines'),
+  columns: z.array(columnRole).min(1, 'must list at least one column').optional(),
+  separator: z.enum([',', ';', 'tab', 'spaces'], { error: 'must be one of ",", ";", "tab", "spaces"' }).default(','),
+  /** period of the device clock's wrap, in seconds of that clock (lines only; frames wrap at 2^32 µs) */
+  clock_wrap: pos().optional(),
+  channels: z.array(channelSchema).min(1, 'must list at least one channel').max(16, 'at most 16 channels').optional(),
+  reconnect: z.strictObject({
+    min_delay_s: pos().default(0.25),
+    max_delay_s: pos().default(10),
+    /** give up after this long without the device (absent: never) */
+    give_up_s: pos().optional(),
+  }).default({ min_delay_s: 0.25, max_delay_s: 10 }),
+});
+
+const sensorSchema = z.discriminatedUnion('kind', [
+  z.strictObject({ kind: z.literal('angle') }),
+  z.strictObject({
+    kind: z.literal('encoder'),
+    counts_per_rev: pos(),
+    counter_bits: z.number('must be a number').int('must be an integer').min(2, 'must be ≥ 2').max(53, 'must be ≤ 53').optional(),
+  }),
+  z.strictObject({
+    kind: z.literal('split-photodiode'),
+    lever_arm_m: pos(),
+    beam_radius_m: pos(),
+    /** |s| at or above this is off the split: flagged saturated */
+    saturation: z.number('must be a number').gt(0, 'must be > 0').lt(1, 'must be < 1').default(0.98),
+  }),
+  z.strictObject({
+    kind: z.literal('psd'),
+    lever_arm_m: pos(),
+    half_length_m: pos(),
+    saturation: z.number('must be a number').gt(0, 'must be > 0').lte(1, 'must be ≤ 1').default(0.98),
+  }),
+], { error: 'must be one of angle, encoder, split-photodiode, psd' });
+
+const analysisSchema = z.strictObject({
+  window_periods: pos().default(4),
+  step_periods: pos().default(1),
+  /** decimate to about this many samples per period before fitting */
+  samples_per_period: pos().default(20),
+  /** seconds of data for the first FFT period estimate */
+  first_estimate_s: pos().optional(),
+  /** a prior on the period, if known (speeds the first estimate) */
+  period_guess_s: pos().optional(),
+  hampel_half_width: z.number('must be a number').int('must be an integer').nonnegative('must be ≥ 0').default(5),
+  hampel_threshold: pos().default(5),
+});
+
+const webhookSchema = z.strictObject({
+  url: z.string('must be a string').url('must be a URL'),
+  timeout_s: pos().default(5),
+  retries: z.number('must be a number').int('must be an integer').nonnegative('must be ≥ 0').default(1000),
+  max_delay_s: pos().default(300),
+  queue_max: z.number('must be a number').int('must be an integer').positive('must be > 0').default(10000),
+});
+
+const commandSchema = z.strictObject({
+  argv: z.array(z.string('must be a string')).min(1, 'must name the program'),
+  timeout_s: pos().default(10),
+});
+
+const alertsSchema = z.strictObject({
+  equilibrium_rate_rad_per_hour: pos().default(5e-6),
+  period_change_ppm: pos().default(300),
+  no_data_s: pos().default(20),
+  /** trailing horizon of the equilibrium creep fit */
+  horizon_h: pos().default(6),
+  /** amplitude below which the swing is too small to fit reliably */
+  amplitude_min_rad: pos().optional(),
+  /** fraction of the elastic twist limit that raises amplitude-limit */
+  twist_fraction: z.number('must be a number').gt(0, 'must be > 0').lte(1, 'must be ≤ 1').default(0.5),
+  stderr: z.boolean('must be true or false').default(true),
+  webhook: webhookSchema.optional(),
+  command: commandSchema.optional(),
+});
+
+export const stationSchema = z.strictObject({
+  station: z.string('must be a string').min(1, 'must not be empty'),
+  fibre: fibreSchema,
+  pendulum: pendulumSchema.default({}),
+  input: inputSchema.default({} as never),
+  sensor: sensorSchema.default({ kind: 'angle' }),
+  analysis: analysisSchema.default({} as never),
+  alerts: alertsSchema.default({} as never),
+});
+
+export type Station = z.output<typeof stationSchema>;
+export type SensorConfig = Station['sensor'];
+export type InputConfig = Station['input'];
+export type AnalysisConfig = Station['analysis'];
+export type AlertsConfig = Station['alerts'];
+export type FibreConfig = Station['fibre'];
+export type PendulumConfig = Station['pendulum'];
+
+/** A station file that cannot be used: the message names the field (`fibre.diameter_m: must be > 0`). */
+export class StationError extends Error {
+  constructor(message: string, readonly field: string) {
+    super(message);
+    this.name = 'StationError';
+  }
+}
+
+/** Validate a parsed JSON value as a station; throws StationError naming the first bad field. */
+export function parseStation(value: unknown, source = 'station'): Station {
+  const r = stationSchema.safeParse(value);
+  if (!r.success) {
+    const issue = r.error.issues[0];
+    const field = issue.path.map((p) => (typeof p === 'number' ? `[${p}]` : String(p))).join('.').replace(/\.\[/g, '[');
+    let msg = issue.message;
+    if (issue.code === 'unrecognized_keys') {
+      const keys = (issue as { keys: string[] }).keys;
+      const where = field ? `${field}.` : '';
+      throw new StationError(`${source}: ${where}${keys[0]}: unknown field`, `${where}${keys[0]}`);
+    }
+    if (issue.code === 'invalid_type' && valueAt(value, issue.path) === undefined) msg = 'is required';
+    throw new StationError(`${source}: ${field || '(top level)'}: ${msg}`, field);
+  }
+  return crossCheck(r.data, source);
+}
+
+function valueAt(root: unknown, path: PropertyKey[]): unknown {
+  let v: unknown = root;
+  for (const k of path) {
+    if (v === null || typeof v !== 'object') return undefined;
+    v = (v as Record<PropertyKey, unknown>)[k];
+  }
+  return v;
+}
+
+/** Rules that span fields. */
+function crossCheck(s: Station, source: string): Station {
+  const fail = (field: string, msg: string): never => {
+    throw new StationError(`${source}: ${field}: ${msg}`, field);
+  };
+  if (s.input.format === 'frames' && !s.input.channels) fail('input.channels', 'is required for format "frames"');
+  if (s.input.clock_wrap !== undefined && s.input.format === 'frames') fail('input.clock_wrap', 'applies to "lines" only (frames wrap at 2^32 µs)');
+  if (s.analysis.step_periods > s.analysis.window_periods) fail('analysis.step_periods', 'must be ≤ analysis.window_periods');
+  const roles = s.input.format === 'frames' ? s.input.channels?.map((c) => c.role) : s.input.columns;
+  if (roles) {
+    const need: Record<string, string[]> = {
+      angle: ['angle_rad'], encoder: ['counts'], 'split-photodiode': ['a', 'b'], psd: ['x_m'],
+    };
+    for (const r of need[s.sensor.kind]) {
+      if (!roles.includes(r)) fail(s.input.format === 'frames' ? 'input.channels' : 'input.columns', `sensor "${s.sensor.kind}" needs a "${r}" ${s.input.format === 'frames' ? 'channel' : 'column'}`);
+    }
+    const seen = new Set<string>();
+    for (const r of roles) {
+      if (r !== '_' && seen.has(r)) fail(s.input.format === 'frames' ? 'input.channels' : 'input.columns', `"${r}" is listed twice`);
+      seen.add(r);
+    }
+  }
+  if ((s.fibre.width_m === undefined) !== (s.fibre.thickness_m === undefined)) {
+    fail(s.fibre.width_m === undefined ? 'fibre.width_m' : 'fibre.thickness_m', 'a ribbon needs both width_m and thickness_m');
+  }
+  if (s.fibre.diameter_m !== undefined && s.fibre.width_m !== undefined) fail('fibre.width_m', 'give either diameter_m (round) or width_m/thickness_m (ribbon), not both');
+  return s;
+}
+
+/** Read and validate a station file; JSON syntax errors also name the file and position. */
+export function loadStation(path: string): Station {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (e) {
+    throw new StationError(`${path}: cannot read station file (${(e as NodeJS.ErrnoException).code ?? e})`, '');
+  }
+  let json: unknown;
+  try {
+    json = JSON.parse(text);
+  } catch (e) {
+    throw new StationError(`${path}: not valid JSON (${(e as Error).message})`, '');
+  }
+  return parseStation(json, path);
+}
+
+/** Station defaults for a bare recording with only a column list (`fit --columns`). */
+export function stationFromColumns(columns: string[], name = 'ad-hoc'): Station {
+  return parseStation({ station: name, fibre: { name: 'unknown' }, input: { columns }, sensor: sensorForColumns(columns) }, '--columns');
+}
+
+function sensorForColumns(columns: string[]): { kind: string } {
+  if (columns.includes('angle_rad')) return { kind: 'angle' };
+  if (columns.includes('counts')) throw new StationError('--columns: a "counts" column needs a station file (counts_per_rev)', 'columns');
+  throw new StationError('--columns: without a station file the columns must include angle_rad', 'columns');
+}
