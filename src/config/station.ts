@@ -202,7 +202,8 @@ function crossCheck(s: Station, source: string): Station {
     const need: Record<string, string[]> = {
       angle: ['angle_rad'], encoder: ['counts'], 'split-photodiode': ['a', 'b'], psd: ['x_m'],
     };
-    for (const r of need[s.sensor.kind]) {
+    const psdFromHalves = s.sensor.kind === 'psd' && roles.includes('a') && roles.includes('b');
+    for (const r of psdFromHalves ? [] : need[s.sensor.kind]) {
       if (!roles.includes(r)) fail(s.input.format === 'frames' ? 'input.channels' : 'input.columns', `sensor "${s.sensor.kind}" needs a "${r}" ${s.input.format === 'frames' ? 'channel' : 'column'}`);
     }
     const seen = new Set<string>();
