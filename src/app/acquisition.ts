@@ -1,0 +1,53 @@
+/**
+ * The one data path for every source (device, file, simulator): bytes →
+ * decoder → sensor conversion → store, and the converted blocks on to the
+ * analysis pipeline. Only where the bytes come from differs.
+ */
+import type { AngleBlock } from '../config/block.js';
+import type { Incident } from '../config/events.js';
+import type { Station } from '../config/station.js';
+import { makeDecoder, type Decoder, type DecodeResult } from '../../drivers/decoder.js';
+import { makeConverter } from '../../drivers/sensor.js';
+import type { RunSession } from './run-session.js';
+
+/** Where converted, run-time blocks go next (the analysis pipeline). */
+export interface BlockSink {
+  push(b: AngleBlock): void;
+  /** the source has ended: flush the last windows */
+  end(): Promise<void>;
+}
+
+export class Acquisition {
+  readonly decoder: Decoder;
+  private readonly convert: (b: import('../config/block.js').RawBlock) => AngleBlock;
+
+  constructor(station: Station, private readonly session: RunSession, private readonly sink?: BlockSink, opts?: { hostClock?: () => number }) {
+    this.decoder = makeDecoder(station, opts);
+    this.convert = makeConverter(station.sensor);
+  }
+
+  /** Bytes as they arrived from the line, with the host time of arrival. */
+  bytes(chunk: Uint8Array, hostMs: number): void {
+    this.handle(this.decoder.push(chunk, hostMs));
+  }
+
+  /** An incident from the transport (reconnect, gap …). */
+  incident(inc: Incident): void {
+    this.session.incident(inc);
+  }
+
+  /** The source ended: flush the decoder's tail, then the pipeline. */
+  async end(hostMs = Date.now()): Promise<void> {
+    this.handle(this.decoder.flush(hostMs));
+    await this.sink?.end();
+    this.session.flush();
+  }
+
+  private handle(r: DecodeResult): void {
+    for (const inc of r.incidents) this.session.incident(inc);
+    for (const raw of r.blocks) {
+      const ab = this.session.ingest(this.convert(raw));
+      this.sink?.push(ab);
+    }
+  }
+}

@@ -1,0 +1,174 @@
+/**
+ * One run in the archive while data flows into it: maps the samples' time base
+ * to seconds since the run's start and to UTC, writes sample chunks, events and
+ * window results, and commits at least once a second (ARCHITECTURE.md).
+ */
+import type Database from 'better-sqlite3';
+import type { AngleBlock, ValueRole } from '../config/block.js';
+import type { Incident } from '../config/events.js';
+import type { WindowResult } from '../config/results.js';
+import type { Station } from '../config/station.js';
+import { createRun, endRun, updateRunStartedAt } from '../../db/runs.js';
+import { SampleWriter } from '../../db/sample-writer.js';
+import { insertEvents } from '../../db/events-store.js';
+import { insertWindows } from '../../db/windows-store.js';
+
+export interface StoredEvent {
+  t_s: number;
+  t_ms: number;
+  kind: Incident['kind'];
+  severity: Incident['severity'];
+  message: string;
+  value?: number | null;
+  threshold?: number | null;
+  state?: string;
+  data?: Record<string, unknown>;
+}
+
+export interface RunSessionOptions {
+  source: 'device' | 'file' | 'simulator';
+  sourcePath?: string;
+  /** UTC ms of the first sample; default: host time when the first block arrives */
+  startedAtMs?: number;
+  /** commit cadence, ms (≤ 1000 per ARCHITECTURE.md) */
+  maxLatencyMs?: number;
+  meta?: Record<string, unknown>;
+  /** called for each stored event (alert delivery, console) */
+  onEvent?: (e: StoredEvent) => void;
+}
+
+/** Raw channels worth storing beside the angle (the angle sensor's own channel is the angle). */
+function rawChannelsToStore(station: Station): ValueRole[] {
+  const skip = new Set<string>(station.sensor.kind === 'angle' ? ['angle_rad'] : []);
+  const roles = station.input.format === 'frames'
+    ? (station.input.channels ?? []).map((c) => c.role)
+    : (station.input.columns ?? []);
+  return roles.filter((r): r is ValueRole => !r.startsWith('t_') && r !== '_' && !skip.has(r));
+}
+
+export class RunSession {
+  readonly runId: number;
+  /** time of the first sample on the samples' own time base; run time t_s = t − t0 */
+  private t0: number | undefined;
+  private startedAtMs: number | undefined;
+  private readonly writer: SampleWriter;
+  private readonly pendingEvents: StoredEvent[] = [];
+  private lastT_s = 0;
+  private readonly raw: ValueRole[];
+  private closed = false;
+  private readonly windowBuffer: WindowResult[] = [];
+
+  constructor(private readonly db: Database.Database, private readonly station: Station, private readonly opts: RunSessionOptions) {
+    this.startedAtMs = opts.startedAtMs;
+    this.runId = createRun(db, {
+      station: station.station,
+      stationConfig: station,
+      fibre: station.fibre,
+      startedAtMs: opts.startedAtMs ?? Date.now(),
+      source: opts.source,
+      sourcePath: opts.sourcePath,
+      meta: opts.meta,
+    });
+    this.writer = new SampleWriter(db, this.runId, { maxLatencyMs: opts.maxLatencyMs ?? 500 });
+    this.raw = rawChannelsToStore(station);
+  }
+
+  /** Seconds since the run's start of the last stored sample. */
+  get lastTime_s(): number {
+    return this.lastT_s;
+  }
+
+  get samples(): number {
+    return this.writer.samples;
+  }
+
+  /** UTC ms of the run's first sample (known after the first block). */
+  get startMs(): number | undefined {
+    return this.startedAtMs;
+  }
+
+  /**
+   * Store one converted block; returns it rebased to run time (t_s since the
+   * run's start), ready for the analysis pipeline.
+   */
+  ingest(b: AngleBlock): AngleBlock {
+    if (b.n === 0) return b;
+    if (this.t0 === undefined) {
+      this.t0 = b.t[0];
+      if (this.startedAtMs === undefined) {
+        // the block's last byte arrived at hostMs; its first sample was earlier by the block's span
+        this.startedAtMs = b.hostMs - (b.t[b.n - 1] - b.t[0]) * 1000;
+        updateRunStartedAt(this.db, this.runId, this.startedAtMs);
+      }
+    }
+    const t = new Float64Array(b.n);
+    const t0 = this.t0;
+    for (let i = 0; i < b.n; i++) t[i] = b.t[i] - t0;
+    const channels: Record<string, Float64Array> = { angle: b.angle };
+    for (const r of this.raw) {
+      const c = b.channels[r];
+      if (c) channels[r] = c;
+    }
+    this.writer.append(t, channels, b.flags, b.n);
+    this.lastT_s = t[b.n - 1];
+    this.flushIfDue(Date.now());
+    return { ...b, t };
+  }
+
+  /** Map an incident to run time and UTC and queue it for the next commit. */
+  incident(inc: Incident): StoredEvent {
+    let t_s: number;
+    if (inc.t !== undefined && this.t0 !== undefined) t_s = inc.t - this.t0;
+    else if (inc.hostMs !== undefined && this.startedAtMs !== undefined) t_s = (inc.hostMs - this.startedAtMs) / 1000;
+    else t_s = this.lastT_s;
+    const base = this.startedAtMs ?? Date.now();
+    const e: StoredEvent = {
+      t_s, t_ms: base + t_s * 1000, kind: inc.kind, severity: inc.severity, message: inc.message,
+      value: inc.value ?? null, threshold: inc.threshold ?? null, state: inc.state, data: inc.data,
+    };
+    this.pendingEvents.push(e);
+    this.opts.onEvent?.(e);
+    return e;
+  }
+
+  /** An incident already on run time (t_s since the start), e.g. from the watchers. */
+  incidentAt(inc: Incident & { t_s: number }): StoredEvent {
+    return this.incident({ ...inc, t: this.t0 !== undefined ? inc.t_s + this.t0 : undefined });
+  }
+
+  /** Queue a window result for the next commit. */
+  window(w: WindowResult): void {
+    this.windowBuffer.push(w);
+  }
+
+  /** Commit if the last commit is older than the cadence. */
+  flushIfDue(nowMs: number): void {
+    if (this.writer.flushIfDue(nowMs)) this.flushSide();
+  }
+
+  /** Commit everything buffered now. */
+  flush(): void {
+    this.writer.flush();
+    this.flushSide();
+  }
+
+  private flushSide(): void {
+    if (this.pendingEvents.length) insertEvents(this.db, this.runId, this.pendingEvents.splice(0));
+    if (this.windowBuffer.length) insertWindows(this.db, this.runId, this.windowBuffer.splice(0));
+  }
+
+  /** Set the run's start after the fact (import without --started-at). */
+  setStartedAt(ms: number): void {
+    this.startedAtMs = ms;
+    updateRunStartedAt(this.db, this.runId, ms);
+  }
+
+  /** Flush and mark the run complete (or interrupted). */
+  close(status: 'complete' | 'interrupted' = 'complete'): void {
+    if (this.closed) return;
+    this.closed = true;
+    this.flush();
+    const end = (this.startedAtMs ?? Date.now()) + this.lastT_s * 1000;
+    endRun(this.db, this.runId, status, end);
+  }
+}

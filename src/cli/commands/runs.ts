@@ -1,0 +1,36 @@
+/** `fibrewatch runs`: past runs, filtered by fibre, station and date span. */
+import { openForQuery } from '../store.js';
+import { listRuns, parseDateArg } from '../../../db/runs.js';
+import { UsageError } from '../errors.js';
+import { table } from '../format.js';
+
+export async function runsCommand(opts: { fibre?: string; station?: string; since?: string; until?: string; db?: string; json?: boolean }): Promise<void> {
+  const date = (flag: string, v?: string) => {
+    if (v === undefined) return undefined;
+    try {
+      return parseDateArg(v);
+    } catch {
+      throw new UsageError(`${flag}: "${v}" is not YYYY-MM-DD or an ISO 8601 time`);
+    }
+  };
+  const sinceMs = date('--since', opts.since);
+  const untilMs = date('--until', opts.until);
+  const db = openForQuery(opts.db);
+  try {
+    const rows = listRuns(db, { fibre: opts.fibre, station: opts.station, sinceMs, untilMs });
+    if (opts.json) {
+      process.stdout.write(JSON.stringify(rows, null, 2) + '\n');
+      return;
+    }
+    if (!rows.length) {
+      process.stderr.write('no runs match\n');
+      return;
+    }
+    process.stdout.write(table(
+      ['run', 'station', 'fibre', 'from (UTC)', 'to (UTC)', 'status', 'samples', 'windows'],
+      rows.map((r) => [String(r.run), r.station, r.fibre, r.started_at ?? '—', r.ended_at ?? '(open)', r.status, String(r.samples), String(r.windows ?? '')]),
+    ));
+  } finally {
+    db.close();
+  }
+}

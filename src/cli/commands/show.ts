@@ -1,0 +1,36 @@
+/** `fibrewatch show RUN [--json]`: one run's summary. */
+import { openForQuery } from '../store.js';
+import { buildSummary, type ShowSummary } from '../../app/summary.js';
+import { duration, fmt, withSigma } from '../format.js';
+
+export async function showCommand(run: number, opts: { db?: string; json?: boolean }): Promise<void> {
+  const db = openForQuery(opts.db);
+  try {
+    const s = buildSummary(db, run);
+    process.stdout.write(opts.json ? JSON.stringify(s, null, 2) + '\n' : renderSummary(s));
+  } finally {
+    db.close();
+  }
+}
+
+/** The human-readable summary (also printed by `demo` and `import`). */
+export function renderSummary(s: ShowSummary): string {
+  const perH = (x: number | null) => (x === null ? null : x * 3600);
+  const lines = [
+    `Run ${s.run} · station ${s.station} · fibre ${s.fibre} · ${s.status}`,
+    `  span           ${s.started_at ?? '—'} → ${s.ended_at ?? '(open)'}${s.duration_s !== null ? `  (${duration(s.duration_s)})` : ''}`,
+    `  samples        ${s.samples}   windows ${s.windows} (${s.windows_ok} ok)   gaps ${s.gaps}   events ${s.events}`,
+    `  period         ${withSigma(s.period_s, s.period_sigma_s, 's')}`,
+    `  Q              ${withSigma(s.q, s.q_sigma)}`,
+    `  equilibrium    ${withSigma(perH(s.equilibrium_rate_rad_per_s), perH(s.equilibrium_rate_sigma_rad_per_s), 'rad/h')} (rate over the run)`,
+  ];
+  if (s.kappa_Nm_per_rad !== undefined) lines.push(`  κ              ${withSigma(s.kappa_Nm_per_rad, s.kappa_sigma_Nm_per_rad, 'N·m/rad')}`);
+  if (s.shear_modulus_Pa !== undefined) {
+    const g = s.shear_modulus_Pa === null ? null : s.shear_modulus_Pa / 1e9;
+    const gs = s.shear_modulus_sigma_Pa == null ? null : s.shear_modulus_sigma_Pa / 1e9;
+    lines.push(`  G              ${withSigma(g, gs, 'GPa')}`);
+  }
+  if (s.amplitude_rad !== null) lines.push(`  amplitude      ${fmt(s.amplitude_rad)} rad (last window)`);
+  for (const a of s.alerts) lines.push(`  alert          ${a.kind}: ${a.state} at ${a.t} — ${a.message}`);
+  return lines.join('\n') + '\n';
+}

@@ -1,0 +1,35 @@
+/** `fibrewatch windows RUN [--json|--csv]`: per-window fit results. */
+import type { WindowResult } from '../../config/results.js';
+import { getRun } from '../../../db/runs.js';
+import { listWindows } from '../../../db/windows-store.js';
+import { RuntimeError, UsageError } from '../errors.js';
+import { csv, table, withSigma, fmt } from '../format.js';
+import { withQueryStore } from '../store.js';
+
+/** Window rows as CONTRACT.md lists them: the fit fields plus `t_mid` (ISO) and `status`. */
+export function windowRows(ws: WindowResult[], startedAtMs: number): Record<string, unknown>[] {
+  return ws.map((w) => ({ ...w, t_mid: new Date(startedAtMs + w.t_mid_s * 1000).toISOString() }));
+}
+
+export async function windowsCommand(run: number, opts: { db?: string; json?: boolean; csv?: boolean }): Promise<void> {
+  if (opts.json && opts.csv) throw new UsageError('--json and --csv: choose one');
+  withQueryStore(opts.db, (db) => {
+    const r = getRun(db, run);
+    if (!r) throw new RuntimeError(`run ${run}: no such run in this store`);
+    const rows = windowRows(listWindows(db, run), r.started_at_ms);
+    if (opts.json) {
+      process.stdout.write(JSON.stringify(rows, null, 2) + '\n');
+    } else if (opts.csv) {
+      const keys = rows.length ? Object.keys(rows[0]) : ['index'];
+      process.stdout.write(csv(keys, rows.map((o) => keys.map((k) => o[k]))));
+    } else {
+      process.stdout.write(table(
+        ['#', 't_mid (UTC)', 'status', 'period', 'τ (s)', 'Q', 'equilibrium (rad)', 'amplitude (rad)'],
+        rows.map((o) => {
+          const w = o as unknown as WindowResult & { t_mid: string };
+          return [String(w.index), w.t_mid.replace(/\.\d{3}Z$/, 'Z'), w.status, withSigma(w.period_s, w.period_sigma_s, 's'), fmt(w.decay_time_s), fmt(w.q), withSigma(w.equilibrium_rad, w.equilibrium_sigma_rad), fmt(w.amplitude_rad)];
+        }),
+      ));
+    }
+  });
+}

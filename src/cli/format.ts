@@ -1,0 +1,63 @@
+/** Human-readable output helpers (SI inside; units converted only here, for display). */
+
+/** Format a value with its standard uncertainty, rounding both to the uncertainty's 2 significant digits. */
+export function withSigma(v: number | null | undefined, s: number | null | undefined, unit = ''): string {
+  if (v === null || v === undefined || !Number.isFinite(v)) return '—';
+  const u = unit ? ` ${unit}` : '';
+  if (s === null || s === undefined || !Number.isFinite(s) || s <= 0) return `${fmt(v)}${u}`;
+  const e = Math.floor(Math.log10(s)) - 1;
+  if (Math.abs(e) > 6 || Math.abs(v) >= 1e6) {
+    const ev = v === 0 ? 0 : Math.floor(Math.log10(Math.abs(v)));
+    const k = 10 ** ev;
+    const digits = Math.max(0, ev - e);
+    return `(${(v / k).toFixed(digits)} ± ${(s / k).toFixed(digits)})e${ev}${u}`;
+  }
+  const digits = Math.max(0, -e);
+  return `${v.toFixed(digits)} ± ${s.toFixed(digits)}${u}`;
+}
+
+/** A compact number: 4 significant digits, exponent form outside 1e-3 … 1e6. */
+export function fmt(v: number | null | undefined, sig = 4): string {
+  if (v === null || v === undefined) return '—';
+  if (!Number.isFinite(v)) return String(v);
+  if (v === 0) return '0';
+  const a = Math.abs(v);
+  if (a >= 1e-3 && a < 1e6) return String(Number(v.toPrecision(sig)));
+  return v.toExponential(sig - 1);
+}
+
+/** ISO 8601 UTC from epoch ms, to the second (display). */
+export function isoSeconds(ms: number | null | undefined): string {
+  if (ms === null || ms === undefined || !Number.isFinite(ms)) return '—';
+  return new Date(ms).toISOString().replace(/\.\d{3}Z$/, 'Z');
+}
+
+/** Duration in s → "3 d 04:05:06" style for display. */
+export function duration(s: number): string {
+  if (!Number.isFinite(s)) return '—';
+  const neg = s < 0;
+  let x = Math.abs(Math.round(s));
+  const d = Math.floor(x / 86400);
+  x -= d * 86400;
+  const hh = String(Math.floor(x / 3600)).padStart(2, '0');
+  const mm = String(Math.floor((x % 3600) / 60)).padStart(2, '0');
+  const ss = String(x % 60).padStart(2, '0');
+  return `${neg ? '-' : ''}${d ? `${d} d ` : ''}${hh}:${mm}:${ss}`;
+}
+
+/** Left-aligned text table with a header rule; numbers are pre-formatted by the caller. */
+export function table(header: string[], rows: string[][]): string {
+  const w = header.map((h, i) => Math.max(h.length, ...rows.map((r) => (r[i] ?? '').length)));
+  const line = (r: string[]) => r.map((c, i) => (c ?? '').padEnd(w[i])).join('  ').trimEnd();
+  return [line(header), w.map((n) => '─'.repeat(n)).join('  '), ...rows.map(line)].join('\n') + '\n';
+}
+
+/** CSV with RFC 4180 quoting. */
+export function csv(header: string[], rows: unknown[][]): string {
+  const cell = (v: unknown) => {
+    if (v === null || v === undefined) return '';
+    const s = typeof v === 'number' ? (Number.isFinite(v) ? String(v) : '') : String(v);
+    return /[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+  };
+  return [header.map(cell).join(','), ...rows.map((r) => r.map(cell).join(','))].join('\n') + '\n';
+}

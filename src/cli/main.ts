@@ -1,0 +1,202 @@
+/**
+ * The `fibrewatch` command line (CONTRACT.md fixes the commands, flags and JSON
+ * fields). Each command's work lives in src/cli/commands/<name>.ts and is loaded
+ * only when that command runs, so a quick query starts fast.
+ */
+import { Command, CommanderError, Option } from 'commander';
+import { StationError } from '../config/station.js';
+import { RuntimeError, UsageError } from './errors.js';
+
+const dbOption = () =>
+  new Option('--db <path>', 'SQLite store (default $FIBREWATCH_DB, else ./fibrewatch.db)');
+
+/** Resolve the store path per CONTRACT.md. */
+export function dbPath(opt?: string): string {
+  return opt ?? process.env.FIBREWATCH_DB ?? './fibrewatch.db';
+}
+
+function positiveNumber(flag: string) {
+  return (v: string) => {
+    const x = Number(v);
+    if (!Number.isFinite(x) || x <= 0) throw new UsageError(`${flag}: must be a number > 0 (got "${v}")`);
+    return x;
+  };
+}
+
+function integerArg(flag: string) {
+  return (v: string) => {
+    const x = Number(v);
+    if (!Number.isInteger(x)) throw new UsageError(`${flag}: must be an integer (got "${v}")`);
+    return x;
+  };
+}
+
+function runArg(v: string): number {
+  const x = Number(v);
+  if (!Number.isInteger(x) || x <= 0) throw new UsageError(`RUN: must be a run number (got "${v}")`);
+  return x;
+}
+
+type Action = (...args: any[]) => Promise<void> | void;
+const lazy = (mod: string, fn: string): Action => async (...args: unknown[]) => {
+  const m = await import(`./commands/${mod}.js`);
+  await m[fn](...args);
+};
+
+/** Build the program (exported for tests of the usage surface). */
+export function buildProgram(): Command {
+  const p = new Command('fibrewatch')
+    .description('Acquisition, analysis and drift watch for torsion balances')
+    .version(process.env.npm_package_version ?? '0.1.0')
+    .showHelpAfterError('(run with --help for usage)');
+
+  p.command('demo')
+    .description('run a virtual balance with a scripted story through the real acquisition path into a fresh store')
+    .option('--out <dir>', 'output folder', './fibrewatch-demo')
+    .option('--hours <h>', 'simulated hours', positiveNumber('--hours'), 12)
+    .option('--in-process', 'skip the pseudo-terminal and feed the decoder in-process')
+    .option('--seed <n>', 'random seed', integerArg('--seed'), 7)
+    .action(lazy('demo', 'demoCommand'));
+
+  p.command('fit')
+    .description('fit each recording as one window (no store)')
+    .argument('<file...>', 'recorded files (the bytes of the line)')
+    .option('--station <file>', 'station file (sensor, format, inertia, fibre)')
+    .option('--columns <list>', 'column roles for a lines file without a station, e.g. t_s,angle_rad')
+    .option('--json', 'JSON Lines on stdout, one object per file')
+    .action(lazy('fit', 'fitCommand'));
+
+  p.command('record')
+    .description('acquire from the station\'s serial device until SIGINT/SIGTERM, analysing live')
+    .requiredOption('--station <file>', 'station file')
+    .addOption(dbOption())
+    .option('--device <path>', 'override input.device')
+    .option('--wait-for-device', 'if the device is missing at start, keep retrying instead of exiting')
+    .action(lazy('record', 'recordCommand'));
+
+  p.command('import')
+    .description('feed a recorded file through the same pipeline as a new run')
+    .argument('<file>', 'recorded file')
+    .requiredOption('--station <file>', 'station file')
+    .option('--started-at <iso>', 'UTC time of the first sample (default: now minus the duration)')
+    .addOption(dbOption())
+    .option('--json', 'print the run summary as JSON')
+    .action(lazy('import', 'importCommand'));
+
+  p.command('simulate')
+    .description('the virtual balance: write the wire format to a device path or stdout')
+    .requiredOption('--scenario <file>', 'scenario JSON (see drivers/simulator/scenarios)')
+    .requiredOption('--device <path>', 'device path (one end of a pty pair) or - for stdout')
+    .addOption(new Option('--format <f>', 'wire format').choices(['lines', 'frames']))
+    .option('--speed <x>', 'times faster than real time (0 = as fast as possible)', (v) => {
+      const x = Number(v);
+      if (!Number.isFinite(x) || x < 0) throw new UsageError(`--speed: must be a number ≥ 0 (got "${v}")`);
+      return x;
+    }, 1)
+    .option('--seed <n>', 'random seed', integerArg('--seed'), 1)
+    .option('--duration <s>', 'simulated seconds', positiveNumber('--duration'))
+    .action(lazy('simulate', 'simulateCommand'));
+
+  p.command('runs')
+    .description('list past runs')
+    .option('--fibre <name>').option('--station <name>')
+    .option('--since <date>', 'YYYY-MM-DD or ISO 8601, inclusive')
+    .option('--until <date>', 'YYYY-MM-DD or ISO 8601, exclusive')
+    .addOption(dbOption())
+    .option('--json', 'JSON array')
+    .action(lazy('runs', 'runsCommand'));
+
+  p.command('show')
+    .description('one run\'s summary')
+    .argument('<run>', 'run number', runArg)
+    .addOption(dbOption())
+    .option('--json')
+    .action(lazy('show', 'showCommand'));
+
+  p.command('windows')
+    .description('per-window fit results of a run')
+    .argument('<run>', 'run number', runArg)
+    .addOption(dbOption())
+    .option('--json', 'JSON array').option('--csv', 'CSV')
+    .action(lazy('windows', 'windowsCommand'));
+
+  p.command('events')
+    .description('alerts and incidents of a run')
+    .argument('<run>', 'run number', runArg)
+    .addOption(dbOption())
+    .option('--json', 'JSON array')
+    .action(lazy('events', 'eventsCommand'));
+
+  p.command('fibres')
+    .description('fibres known to the store')
+    .addOption(dbOption())
+    .option('--json')
+    .action(lazy('fibres', 'fibresCommand'));
+
+  p.command('fibre')
+    .description('one fibre\'s history across its runs')
+    .argument('<name>')
+    .addOption(dbOption())
+    .option('--json')
+    .action(lazy('fibres', 'fibreCommand'));
+
+  p.command('export')
+    .description('data out for other tools')
+    .argument('<run>', 'run number', runArg)
+    .addOption(new Option('--what <what>').choices(['samples', 'windows', 'events']).makeOptionMandatory())
+    .addOption(new Option('--format <f>').choices(['csv', 'json']).default('csv'))
+    .option('--out <file>', 'write here instead of stdout')
+    .addOption(dbOption())
+    .action(lazy('export', 'exportCommand'));
+
+  p.command('report')
+    .description('a self-contained HTML report with plots')
+    .argument('<run>', 'run number', runArg)
+    .requiredOption('--out <file>', 'HTML file to write')
+    .addOption(dbOption())
+    .action(lazy('report', 'reportCommand'));
+
+  p.command('serve')
+    .description('the local live dashboard')
+    .option('--host <host>', 'address to listen on', '127.0.0.1')
+    .option('--port <port>', 'TCP port', integerArg('--port'), 8177)
+    .addOption(dbOption())
+    .action(lazy('serve', 'serveCommand'));
+
+  p.command('ports')
+    .description('serial devices on this machine (prefer the /dev/serial/by-id paths)')
+    .option('--json')
+    .action(lazy('ports', 'portsCommand'));
+
+  return p;
+}
+
+/** Run the CLI; maps errors to CONTRACT.md's exit statuses. */
+export async function main(argv: string[]): Promise<void> {
+  const program = buildProgram();
+  program.exitOverride();
+  program.configureOutput({ writeErr: (s) => process.stderr.write(s) });
+  try {
+    await program.parseAsync(argv);
+  } catch (e) {
+    process.exitCode = exitFor(e);
+  }
+}
+
+function exitFor(e: unknown): number {
+  if (e instanceof CommanderError) {
+    if (e.code === 'commander.helpDisplayed' || e.code === 'commander.version' || e.code === 'commander.help') return 0;
+    return 2; // commander already printed the message
+  }
+  if (e instanceof UsageError || e instanceof StationError) {
+    process.stderr.write(`fibrewatch: ${e.message}\n`);
+    return 2;
+  }
+  if (e instanceof RuntimeError) {
+    process.stderr.write(`fibrewatch: ${e.message}\n`);
+    return 1;
+  }
+  const err = e as Error;
+  process.stderr.write(`fibrewatch: ${err?.stack ?? err}\n`);
+  return 1;
+}
