@@ -1,0 +1,41 @@
+/**
+ * Thermal (fluctuation–dissipation) limits of a torsion pendulum
+ * (DOMAIN.md, "Limits worth comparing against"). One-sided spectral
+ * densities, per hertz, as functions of frequency f in Hz.
+ */
+import { K_BOLTZMANN } from './constants.js';
+
+/** Equipartition rms angle θ_rms = √(k_B·T/κ) (rad) at temperature T (K) and torsion constant κ (N·m/rad). */
+export function thermalAngleRms(T: number, kappa: number): number {
+  return Math.sqrt((K_BOLTZMANN * T) / kappa);
+}
+
+/** One-sided torque noise (N²·m²/Hz) for structural damping (loss angle 1/Q): S_τ = 4·k_B·T·κ/(2π·f·Q). */
+export function torqueNoiseStructural(f: number, T: number, kappa: number, Q: number): number {
+  return (4 * K_BOLTZMANN * T * kappa) / (2 * Math.PI * f * Q);
+}
+
+/** One-sided torque noise (N²·m²/Hz) for viscous damping b = I·ω₀/Q: S_τ = 4·k_B·T·I·ω₀/Q, white. */
+export function torqueNoiseViscous(T: number, I: number, omega0: number, Q: number): number {
+  return (4 * K_BOLTZMANN * T * I * omega0) / Q;
+}
+
+/**
+ * One-sided angle noise PSD (rad²/Hz) of the oscillator driven by its own
+ * thermal torque: S_θ = S_τ/|κ_c − I·ω²|², with κ_c = κ·(1 + i/Q) for
+ * structural damping and κ − I·ω² + i·b·ω (b = I·ω₀/Q) for viscous damping.
+ * The viscous form integrates over f ∈ (0, ∞) to k_B·T/κ exactly; the
+ * structural form has a 1/f tail whose excess grows as ln(f₀/f_min)/Q (a
+ * constant loss angle cannot hold down to f → 0), negligible in band at high Q.
+ */
+export function thermalAnglePsd(f: number, T: number, I: number, kappa: number, Q: number, damping: 'structural' | 'viscous' = 'structural'): number {
+  const w = 2 * Math.PI * f;
+  const re = kappa - I * w * w;
+  if (damping === 'structural') {
+    const im = kappa / Q;
+    return torqueNoiseStructural(f, T, kappa, Q) / (re * re + im * im);
+  }
+  const w0 = Math.sqrt(kappa / I);
+  const im = ((I * w0) / Q) * w;
+  return torqueNoiseViscous(T, I, w0, Q) / (re * re + im * im);
+}
