@@ -1,0 +1,90 @@
+/**
+ * Reading stored samples back: whole ranges or chunk by chunk.
+ */
+import type { Database } from 'better-sqlite3';
+import { decodeChunk, type ChunkRow, type DecodedChunk } from './codec.js';
+
+export interface ReadSamplesOptions {
+  /** first time to include, seconds since the run's start (inclusive); default: from the start */
+  from_s?: number;
+  /** time to stop at, seconds since the run's start (exclusive); default: to the end */
+  to_s?: number;
+}
+
+export interface IterateChunksOptions extends ReadSamplesOptions {
+  /** chunk rows fetched per query (each query is a short read); default 64 */
+  batchChunks?: number;
+}
+
+/** One stored chunk, decoded and trimmed to the requested range. */
+export interface SampleChunk extends DecodedChunk {
+  seq: number;
+}
+
+interface Row extends ChunkRow {
+  seq: number;
+}
+
+/**
+ * Decoded chunks of one channel in time order, fetched in small batches so no
+ * read stays open between batches (a long export never pins the WAL).
+ */
+export function* iterateChunks(db: Database, runId: number, channel: string, opts: IterateChunksOptions = {}): Generator<SampleChunk> {
+  const from = opts.from_s ?? -Infinity;
+  const to = opts.to_s ?? Infinity;
+  const batch = Math.max(1, Math.floor(opts.batchChunks ?? 64));
+  // SQLite has no ±Infinity literal in a bound REAL: use ±1e308 as "unbounded"
+  const stmt = db.prepare(`
+    SELECT seq, count, t0_s, time_kind, dt_s, time_blob, value_kind, value_base, value_blob, flags_blob, deflated
+    FROM sample_chunks
+    WHERE run_id = ? AND channel = ? AND seq > ? AND t1_s >= ? AND t0_s < ?
+    ORDER BY seq LIMIT ?`);
+  let after = -1;
+  for (;;) {
+    const rows = stmt.all(runId, channel, after, Math.max(from, -1e308), Math.min(to, 1e308), batch) as Row[];
+    for (const row of rows) {
+      const d = decodeChunk(row);
+      const c = trim(d, from, to);
+      if (c.t.length > 0) yield { ...c, seq: row.seq };
+    }
+    if (rows.length < batch) return;
+    after = rows[rows.length - 1].seq;
+  }
+}
+
+/** Keep samples with from ≤ t < to (times within a chunk are in order). */
+function trim(d: DecodedChunk, from: number, to: number): DecodedChunk {
+  const n = d.t.length;
+  if (n === 0 || (d.t[0] >= from && d.t[n - 1] < to)) return d;
+  let a = 0;
+  while (a < n && d.t[a] < from) a++;
+  let b = n;
+  while (b > a && d.t[b - 1] >= to) b--;
+  return { t: d.t.subarray(a, b), v: d.v.subarray(a, b), flags: d.flags.subarray(a, b) };
+}
+
+/** All samples of one channel of a run within [from_s, to_s), as typed arrays. */
+export function readSamples(db: Database, runId: number, channel: string, opts: ReadSamplesOptions = {}): { t: Float64Array; v: Float64Array; flags: Uint8Array } {
+  const parts: DecodedChunk[] = [];
+  let n = 0;
+  for (const c of iterateChunks(db, runId, channel, opts)) {
+    parts.push(c);
+    n += c.t.length;
+  }
+  const t = new Float64Array(n);
+  const v = new Float64Array(n);
+  const flags = new Uint8Array(n);
+  let p = 0;
+  for (const c of parts) {
+    t.set(c.t, p);
+    v.set(c.v, p);
+    flags.set(c.flags, p);
+    p += c.t.length;
+  }
+  return { t, v, flags };
+}
+
+/** Channel names stored for a run. */
+export function listChannels(db: Database, runId: number): string[] {
+  return (db.prepare('SELECT DISTINCT channel FROM sample_chunks WHERE run_id = ? ORDER BY channel').all(runId) as { channel: string }[]).map((r) => r.channel);
+}
