@@ -1,0 +1,83 @@
+// The writing end of a test pseudo-terminal, run as its own process: writing
+// to a pty synchronously from the process that also reads the other end can
+// deadlock (TRAPS.md), so tests drive the feed side from here.
+//
+// usage: node pty-writer.mjs FEED_PATH '{"start":0,"count":1000,"rate_per_s":0,"waitGo":false}'
+//   start       first line index (default 0)
+//   count       lines to write (default: until the pty goes away)
+//   rate_per_s  lines per second, 0 = as fast as the pty takes them (default 0)
+//   waitGo      open the feed, print "ready", then wait for "go" on stdin (default false)
+//   bytes_b64   write these raw bytes instead of lines
+//   waitPath_s  how long to wait for FEED_PATH to appear, seconds (default 10)
+// stdout: "ready" once open, then one JSON line {"written":N,"error"?:CODE} at the end.
+// exit 0 when done, 3 when the pty went away (EIO/ENXIO), 2 on bad usage.
+import { openSync, writeSync, existsSync, constants } from 'node:fs';
+import { createInterface } from 'node:readline';
+
+/** Line i of the test stream; test/helpers/pty.ts `writerLine` must match. */
+function writerLine(i) {
+  return `${i},${((i * 7919) % 10007) / 10007}\n`;
+}
+
+const sleep = (ms) => new Promise((r) => setTimeout(r, ms));
+
+async function main() {
+  const [feed, specText] = process.argv.slice(2);
+  if (!feed) {
+    process.stderr.write('pty-writer: missing FEED_PATH\n');
+    process.exit(2);
+  }
+  const spec = JSON.parse(specText ?? '{}');
+  const start = spec.start ?? 0;
+  const count = spec.count ?? Infinity;
+  const rate = spec.rate_per_s ?? 0;
+  const deadline = Date.now() + (spec.waitPath_s ?? 10) * 1000;
+  while (!existsSync(feed)) {
+    if (Date.now() > deadline) {
+      process.stderr.write(`pty-writer: ${feed} did not appear\n`);
+      process.exit(2);
+    }
+    await sleep(10);
+  }
+  // O_NOCTTY: never let the pty become our controlling terminal (its hang-up would SIGHUP us).
+  const fd = openSync(feed, constants.O_WRONLY | constants.O_NOCTTY);
+  process.stdout.write('ready\n');
+  if (spec.waitGo) {
+    const rl = createInterface({ input: process.stdin });
+    await new Promise((resolve) => rl.on('line', (l) => { if (l.trim() === 'go') { rl.close(); resolve(); } }));
+  }
+  let written = 0;
+  const finish = (code, error) => {
+    process.stdout.write(JSON.stringify(error ? { written, error } : { written }) + '\n', () => process.exit(code));
+  };
+  const put = (buf) => {
+    let off = 0;
+    while (off < buf.length) off += writeSync(fd, buf, off, buf.length - off);
+  };
+  try {
+    if (spec.bytes_b64 !== undefined) {
+      const buf = Buffer.from(spec.bytes_b64, 'base64');
+      put(buf);
+      written = buf.length;
+      return finish(0);
+    }
+    const t0 = performance.now();
+    while (written < count) {
+      // lines due by now (rate) or a batch of 1000 (as fast as possible)
+      const due = rate > 0 ? Math.min(count, Math.floor(((performance.now() - t0) / 1000) * rate) + 1) : Math.min(count, written + 1000);
+      if (due > written) {
+        let s = '';
+        for (let i = written; i < due; i++) s += writerLine(start + i);
+        put(Buffer.from(s, 'latin1'));
+        written = due;
+      }
+      if (rate > 0) await sleep(5);
+    }
+    finish(0);
+  } catch (e) {
+    if (e.code === 'EIO' || e.code === 'ENXIO' || e.code === 'EBADF') return finish(3, e.code);
+    throw e;
+  }
+}
+
+await main();
