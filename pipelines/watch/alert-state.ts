@@ -1,0 +1,110 @@
+/**
+ * The alert life cycle shared by every watcher: `raised` once when a
+ * condition starts, `updated` at most every `update_every_s` while it
+ * persists, `cleared` when it ends — with hysteresis so it does not flap: a
+ * raised alert clears only after `clear_after` consecutive evaluations with
+ * the statistic below `clear_fraction` × its threshold.
+ */
+import type { AlertState as State, EventKind, Incident, Severity } from '../../src/config/events.js';
+
+/** Options of createAlertState. */
+export interface AlertStateOptions {
+  kind: EventKind;
+  severity: Severity;
+  /** least time between two `updated` incidents, s (default 900 = 15 min) */
+  update_every_s?: number;
+  /** hysteresis: the statistic must fall below this fraction of its threshold to count as ok (default 0.7) */
+  clear_fraction?: number;
+  /** consecutive ok evaluations needed to clear (default 3) */
+  clear_after?: number;
+  /** consecutive evaluations over threshold needed to raise (default 1) */
+  raise_after?: number;
+}
+
+/** One evaluation of a watcher's condition. */
+export interface AlertEvaluation {
+  /** time, s (same base as the watcher's input) */
+  t: number;
+  /** decision statistic, ≥ 0; the condition holds when stat ≥ statThreshold (and `significant`) */
+  stat: number;
+  statThreshold: number;
+  /** extra test the condition must pass to raise (e.g. significance); default true */
+  significant?: boolean;
+  /** what the incident reports (value and threshold in the unit named in data.unit) */
+  value: number | null;
+  threshold: number | null;
+  /** message for the state being emitted */
+  message: (state: State) => string;
+  data?: Record<string, unknown>;
+  /** host wall time, ms */
+  hostMs?: number;
+}
+
+/** A watcher's alert state machine. */
+export interface AlertStateMachine {
+  /** Feed one evaluation; returns the incident to emit, or null. */
+  step(ev: AlertEvaluation): Incident | null;
+  /** true while raised */
+  readonly active: boolean;
+  /** time raised, s (NaN when not active) */
+  readonly raisedAt: number;
+}
+
+/** Create the life-cycle state machine for one alert kind. */
+export function createAlertState(opts: AlertStateOptions): AlertStateMachine {
+  const updateEvery = opts.update_every_s ?? 900;
+  const clearFraction = opts.clear_fraction ?? 0.7;
+  const clearAfter = opts.clear_after ?? 3;
+  const raiseAfter = opts.raise_after ?? 1;
+  if (!(clearFraction > 0 && clearFraction <= 1)) throw new RangeError(`alert-state: clear_fraction must be in (0, 1], got ${clearFraction}`);
+  if (!(clearAfter >= 1) || !(raiseAfter >= 1)) throw new RangeError('alert-state: clear_after and raise_after must be ≥ 1');
+  let active = false;
+  let raisedAt = NaN;
+  let lastEmit = -Infinity;
+  let okRun = 0;
+  let badRun = 0;
+  const make = (state: State, ev: AlertEvaluation): Incident => {
+    lastEmit = ev.t;
+    return {
+      kind: opts.kind,
+      severity: state === 'cleared' ? 'info' : opts.severity,
+      t: ev.t,
+      ...(ev.hostMs !== undefined ? { hostMs: ev.hostMs } : {}),
+      message: ev.message(state),
+      value: ev.value,
+      threshold: ev.threshold,
+      state,
+      data: { ...ev.data, ...(state !== 'raised' && Number.isFinite(raisedAt) ? { raised_t: raisedAt, duration_s: ev.t - raisedAt } : {}) },
+    };
+  };
+  return {
+    get active() { return active; },
+    get raisedAt() { return raisedAt; },
+    step(ev) {
+      const over = ev.stat >= ev.statThreshold && ev.significant !== false;
+      if (!active) {
+        badRun = over ? badRun + 1 : 0;
+        if (badRun < raiseAfter) return null;
+        active = true;
+        raisedAt = ev.t;
+        okRun = 0;
+        badRun = 0;
+        return make('raised', ev);
+      }
+      if (ev.stat < clearFraction * ev.statThreshold) {
+        okRun++;
+        if (okRun >= clearAfter) {
+          const inc = make('cleared', ev);
+          active = false;
+          raisedAt = NaN;
+          okRun = 0;
+          return inc;
+        }
+        return null;
+      }
+      okRun = 0;
+      if (ev.t - lastEmit >= updateEvery) return make('updated', ev);
+      return null;
+    },
+  };
+}

@@ -1,0 +1,82 @@
+/**
+ * no-data: raised when no block has arrived for `no_data_s`, checked on a
+ * timer so it fires while the source is silent (within no_data_s + check_s
+ * of the last block); `updated` while the silence lasts; cleared by the next
+ * block. The clock and scheduler are passed in, so tests run on a
+ * TestScheduler or on real timers alike.
+ */
+import { asyncScheduler, Observable, type SchedulerLike } from 'rxjs';
+import type { AngleBlock } from '../../src/config/block.js';
+import type { Incident } from '../../src/config/events.js';
+import { createAlertState } from './alert-state.js';
+
+/** Options of watchNoData. */
+export interface WatchNoDataOptions {
+  /** silence that raises the alert, s (station alerts.no_data_s) */
+  no_data_s: number;
+  /** clock, ms (default scheduler.now()) */
+  now?: () => number;
+  /** scheduler of the check timer (default asyncScheduler) */
+  scheduler?: SchedulerLike;
+  /** interval of the check, s (default min(1, no_data_s/4)) */
+  check_s?: number;
+  /** least time between `updated` incidents, s (default 600) */
+  update_every_s?: number;
+  /** host wall clock for Incident.hostMs, ms (default Date.now) */
+  wallMs?: () => number;
+}
+
+/** Watch a block stream for silence; emits no-data incidents (t undefined = host time). */
+export function watchNoData(opts: WatchNoDataOptions) {
+  const limit = opts.no_data_s;
+  if (!(limit > 0)) throw new RangeError(`watchNoData: no_data_s must be > 0, got ${limit}`);
+  const scheduler = opts.scheduler ?? asyncScheduler;
+  const now = opts.now ?? (() => scheduler.now());
+  const checkMs = (opts.check_s ?? Math.min(1, limit / 4)) * 1000;
+  const wallMs = opts.wallMs ?? Date.now;
+  return (source: Observable<AngleBlock>) =>
+    new Observable<Incident>((sub) => {
+      // clear on the first block after the silence: no hysteresis beyond that
+      const alert = createAlertState({ kind: 'no-data', severity: 'alarm', update_every_s: opts.update_every_s ?? 600, clear_fraction: 1, clear_after: 1 });
+      let last = now();
+      let lastSampleT: number | null = null;
+      // stat: the silence now; shown: the silence the message reports (the whole gap when data is back)
+      const evaluate = (silentMs: number, shownMs = silentMs) => {
+        const silent = shownMs / 1000;
+        const inc = alert.step({
+          t: now() / 1000,
+          stat: silentMs / 1000,
+          statThreshold: limit,
+          value: silent,
+          threshold: limit,
+          hostMs: wallMs(),
+          message: (st) => st === 'cleared'
+            ? `data back after ${silent.toFixed(1)} s without a block`
+            : `no data for ${silent.toFixed(1)} s (limit ${limit} s)`,
+          data: { unit: 's', silent_s: silent, last_sample_t: lastSampleT },
+        });
+        if (inc) {
+          // the recorder puts host-time incidents at "now": keep t undefined (Incident contract)
+          delete inc.t;
+          sub.next(inc);
+        }
+      };
+      const timer = scheduler.schedule(function tick() {
+        try { evaluate(now() - last); } catch (e) { sub.error(e); return; }
+        this.schedule(undefined, checkMs);
+      }, checkMs);
+      const s = source.subscribe({
+        next: (b) => {
+          try {
+            const gap = now() - last;
+            last = now();
+            if (b.n > 0) lastSampleT = b.t[b.n - 1];
+            if (alert.active) evaluate(0, gap);
+          } catch (e) { sub.error(e); }
+        },
+        error: (e) => sub.error(e),
+        complete: () => sub.complete(),
+      });
+      return () => { timer.unsubscribe(); s.unsubscribe(); };
+    });
+}

@@ -1,0 +1,142 @@
+/**
+ * period-drift: a two-sided CUSUM (src/analysis/cusum.ts) on the window
+ * periods relative to a baseline, with the temperature coefficient removed.
+ *
+ * Baseline: the weighted mean period (and mean temperature) of the first
+ * `baseline_windows` ok windows of the run — a fixed reference, so that a
+ * slow change is caught as well as a step (a trailing reference would follow
+ * it). The temperature coefficient is refitted on every window from the
+ * trailing `temp_horizon_s` of windows that were not in alert and within one
+ * threshold of the baseline, once their temperatures span `temp_min_span_K`.
+ */
+import { Observable } from 'rxjs';
+import type { Incident } from '../../src/config/events.js';
+import type { WindowResult } from '../../src/config/results.js';
+import { cusumInit, cusumOptions, cusumStatistic, cusumStep, type CusumOptions } from '../../src/analysis/cusum.js';
+import { fitTempCoefficient } from '../../src/analysis/temp-coefficient.js';
+import { createAlertState } from './alert-state.js';
+
+/** Options of watchPeriod. */
+export interface WatchPeriodOptions {
+  /** change to detect, ppm (station alerts.period_change_ppm; default 300) */
+  period_change_ppm?: number;
+  /** ok windows averaged for the baseline (default 30) */
+  baseline_windows?: number;
+  /** remove the fitted temperature coefficient (default true) */
+  correct_temperature?: boolean;
+  /** coefficient to use until one is fitted, ppm/K (default 0) */
+  temp_coefficient_ppm_per_K?: number;
+  /** trailing horizon of the coefficient fit, s (default 86400) */
+  temp_horizon_s?: number;
+  /** least temperature span before the fit is used, K (default 0.3) */
+  temp_min_span_K?: number;
+  /** CUSUM tuning in units of the change (see cusum.ts) */
+  cusum?: CusumOptions;
+  /** least time between `updated` incidents, s (default 1800) */
+  update_every_s?: number;
+  /** hysteresis (defaults 0.7 and 3) */
+  clear_fraction?: number;
+  clear_after?: number;
+}
+
+/** Watch the window periods for a change beyond period_change_ppm; emits period-drift incidents. */
+export function watchPeriod(opts: WatchPeriodOptions = {}) {
+  const ppm = opts.period_change_ppm ?? 300;
+  const delta = ppm * 1e-6;
+  const nBase = opts.baseline_windows ?? 30;
+  const correct = opts.correct_temperature ?? true;
+  const prior = (opts.temp_coefficient_ppm_per_K ?? 0) * 1e-6;
+  const tempHorizon = opts.temp_horizon_s ?? 86400;
+  const minSpan = opts.temp_min_span_K ?? 0.3;
+  const co = cusumOptions(opts.cusum);
+  if (!(delta > 0)) throw new RangeError(`watchPeriod: period_change_ppm must be > 0, got ${ppm}`);
+  if (!(nBase >= 1)) throw new RangeError(`watchPeriod: baseline_windows must be ≥ 1, got ${nBase}`);
+  return (source: Observable<WindowResult>) =>
+    new Observable<Incident>((sub) => {
+      const alert = createAlertState({
+        kind: 'period-drift', severity: 'warning',
+        update_every_s: opts.update_every_s ?? 1800,
+        clear_fraction: opts.clear_fraction, clear_after: opts.clear_after,
+      });
+      const base: { p: number; s: number; T: number | null }[] = [];
+      let pRef = NaN;
+      let tRef: number | null = null;
+      let state = cusumInit();
+      let coef = prior;
+      let coefSigma = 0;
+      let coefFitted = false;
+      // trailing buffer for the temperature fit
+      let bt: number[] = [], bT: number[] = [], bp: number[] = [], bs: number[] = [];
+      const recent: number[] = [];
+      const onWindow = (w: WindowResult) => {
+        if (w.status !== 'ok' || w.period_s === null || !Number.isFinite(w.period_s)) return;
+        const p = w.period_s;
+        const sp = w.period_sigma_s !== null && Number.isFinite(w.period_sigma_s) ? w.period_sigma_s : NaN;
+        const T = w.temp_C !== null && Number.isFinite(w.temp_C) ? w.temp_C : null;
+        const t = w.t_mid_s;
+        if (!Number.isFinite(pRef)) {
+          base.push({ p, s: sp, T });
+          if (base.length < nBase) return;
+          // weighted mean, σ floored at 1 ppm so one over-confident window cannot set the baseline
+          let sw = 0, swp = 0, sT = 0, nT = 0;
+          const med = base.map((b) => b.p).sort((a, b) => a - b)[base.length >> 1];
+          for (const b of base) {
+            const s = Math.max(Number.isFinite(b.s) ? b.s : med * 1e-5, med * 1e-6);
+            sw += 1 / (s * s); swp += b.p / (s * s);
+            if (b.T !== null) { sT += b.T; nT++; }
+          }
+          pRef = swp / sw;
+          tRef = nT > 0 ? sT / nT : null;
+          return;
+        }
+        const dT = T !== null && tRef !== null ? T - tRef : 0;
+        const useCoef = correct && T !== null && tRef !== null;
+        const r = p / pRef - 1 - (useCoef ? coef * dT : 0);
+        const sr = Math.hypot(Number.isFinite(sp) ? sp / pRef : Infinity, useCoef ? coefSigma * dT : 0);
+        state = cusumStep(state, r, sr, delta, co);
+        const { g, side } = cusumStatistic(state);
+        recent.push(r);
+        if (recent.length > 3) recent.shift();
+        const shift = [...recent].sort((a, b) => a - b)[recent.length >> 1];
+        const inc = alert.step({
+          t,
+          stat: g,
+          statThreshold: co.h,
+          value: shift * 1e6,
+          threshold: ppm,
+          message: (st) => st === 'cleared'
+            ? `period back within ${(0.7 * ppm).toFixed(0)} ppm of the baseline ${pRef.toFixed(6)} s: ${fmtPpm(shift)} ppm now`
+            : `period ${side > 0 ? 'up' : 'down'}: ${fmtPpm(shift)} ppm from the baseline ${pRef.toFixed(6)} s (threshold ${ppm} ppm${useCoef ? `, temperature removed at ${(coef * 1e6).toFixed(1)} ppm/K` : ''})`,
+          data: {
+            unit: 'ppm', shift_ppm: shift * 1e6, period_s: p, baseline_period_s: pRef, cusum: g, cusum_h: co.h,
+            side, temp_coefficient_ppm_per_K: useCoef ? coef * 1e6 : null, temp_coefficient_fitted: coefFitted, t_mid_s: t,
+          },
+        });
+        if (inc) sub.next(inc);
+        // learn the temperature coefficient from windows that look normal
+        if (correct && T !== null && !alert.active && Math.abs(r) < delta) {
+          bt.push(t); bT.push(T); bp.push(p); bs.push(sp);
+          let k = 0;
+          while (k < bt.length && bt[k] < t - tempHorizon) k++;
+          if (k > 0) { bt = bt.slice(k); bT = bT.slice(k); bp = bp.slice(k); bs = bs.slice(k); }
+          const fit = bt.length >= 10 ? fitTempCoefficient(bT, bp, bs) : null;
+          if (fit && fit.temp_span_K >= minSpan) {
+            coef = fit.coef_per_K;
+            coefSigma = fit.coef_sigma_per_K;
+            coefFitted = true;
+          }
+        }
+      };
+      const s = source.subscribe({
+        next: (w) => { try { onWindow(w); } catch (e) { sub.error(e); } },
+        error: (e) => sub.error(e),
+        complete: () => sub.complete(),
+      });
+      return () => s.unsubscribe();
+    });
+}
+
+function fmtPpm(rel: number): string {
+  const v = rel * 1e6;
+  return `${v >= 0 ? '+' : ''}${v.toFixed(0)}`;
+}
