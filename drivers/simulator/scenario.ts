@@ -1,0 +1,307 @@
+/**
+ * Scenario files for the virtual balance: one JSON document describing the
+ * pendulum, fibre, noise, sensor, the scripted story (temperature swing,
+ * creep, disturbances, period steps, dropouts) and the wire output. Validated
+ * once here; errors name the field. SI units throughout.
+ */
+import { readFileSync } from 'node:fs';
+import { z } from 'zod';
+import { TIME_ROLES, VALUE_ROLES, type ColumnRole, type ValueRole } from '../../src/config/block.js';
+import { inertiaFromParts, InertiaPartError } from '../../src/physics/inertia.js';
+import { lookupMaterial, materialNames } from '../../src/physics/materials.js';
+import { kappaRound, kappaRibbon } from '../../src/physics/torsion.js';
+
+const num = () => z.number('must be a number').finite('must be finite');
+const pos = () => z.number('must be a number').positive('must be > 0').finite('must be finite');
+const nonneg = () => z.number('must be a number').nonnegative('must be ≥ 0').finite('must be finite');
+
+const columnRole = z.enum([...TIME_ROLES, ...VALUE_ROLES, '_'] as [string, ...string[]], {
+  error: `must be one of ${[...TIME_ROLES, ...VALUE_ROLES, '_'].join(', ')}`,
+});
+
+const partSchema = z.strictObject({
+  shape: z.enum(['point', 'rod', 'bar', 'disc', 'cylinder', 'ring', 'sphere'], { error: 'must be one of point, rod, bar, disc, cylinder, ring, sphere' }),
+  mass_kg: pos(),
+  offset_m: nonneg().default(0),
+  length_m: pos().optional(),
+  width_m: pos().optional(),
+  radius_m: pos().optional(),
+  inner_radius_m: nonneg().optional(),
+  outer_radius_m: pos().optional(),
+  count: z.number('must be a number').int('must be an integer').positive('must be > 0').default(1),
+});
+
+const fibreSchema = z.strictObject({
+  name: z.string('must be a string').optional(),
+  material: z.string('must be a string').optional(),
+  diameter_m: pos().optional(),
+  length_m: pos(),
+  width_m: pos().optional(),
+  thickness_m: pos().optional(),
+  /** overrides the table's G, Pa */
+  shear_modulus_Pa: pos().optional(),
+});
+
+const creepSchema = z.strictObject({
+  /** amplitude of θ_eq = a·ln(1 + t/t_c), rad (either sign) */
+  a_rad: num(),
+  /** time constant t_c, s */
+  tc_s: pos(),
+  /** start time, s since the run's start (default 0) */
+  start_s: nonneg().default(0),
+});
+
+const sensorSchema = z.discriminatedUnion('kind', [
+  z.strictObject({ kind: z.literal('angle') }),
+  z.strictObject({
+    kind: z.literal('encoder'),
+    /** counts per revolution, quadrature ×4 included */
+    counts_per_rev: pos(),
+    /** hardware counter width; counts wrap in two's complement (default: no wrap) */
+    counter_bits: z.number('must be a number').int('must be an integer').min(2, 'must be ≥ 2').max(32, 'must be ≤ 32').optional(),
+  }),
+  z.strictObject({
+    kind: z.literal('split-photodiode'),
+    lever_arm_m: pos(),
+    /** 1/e² radius of the Gaussian beam at the detector */
+    beam_radius_m: pos(),
+    /** total beam power on the detector, detector units (default 1) */
+    power: pos().default(1),
+    /** rms white noise added to each half, detector units (default 0) */
+    noise: nonneg().default(0),
+    /** half-size of the detector: beyond it the spot misses and both halves read dark (default 10 beam radii) */
+    detector_half_size_m: pos().optional(),
+    /** ADC full scale: each half is clipped to [0, full_scale] (default: no clip) */
+    full_scale: pos().optional(),
+  }),
+  z.strictObject({
+    kind: z.literal('psd'),
+    lever_arm_m: pos(),
+    half_length_m: pos(),
+    /** rms white noise on x_m, metres (default 0) */
+    noise_m: nonneg().default(0),
+    /** sum signal for the a/b outputs, detector units (default 1) */
+    power: pos().default(1),
+  }),
+], { error: 'must be one of angle, encoder, split-photodiode, psd' });
+
+const outputSchema = z.strictObject({
+  format: z.enum(['lines', 'frames'], { error: 'must be "lines" or "frames"' }).default('lines'),
+  /** lines: column roles in order (default t_s plus the sensor's channels) */
+  columns: z.array(columnRole).min(1, 'must list at least one column').optional(),
+  /** frames: channel roles and scales (raw i32 × scale = value in the role's unit) */
+  channels: z.array(z.strictObject({ role: columnRole, scale: z.number('must be a number').finite('must be finite').refine((v) => v !== 0, 'must not be 0').default(1) }))
+    .min(1, 'must list at least one channel').max(16, 'at most 16 channels').optional(),
+  /** significant digits of the numbers in lines output (default: the shortest text that reads back exactly) */
+  digits: z.number('must be a number').int('must be an integer').min(1, 'must be ≥ 1').max(17, 'must be ≤ 17').optional(),
+}).default({ format: 'lines' });
+
+export const scenarioSchema = z.strictObject({
+  name: z.string('must be a string').min(1, 'must not be empty'),
+  description: z.string('must be a string').optional(),
+  /** length of the run, s */
+  duration_s: pos(),
+  sample_rate_hz: pos(),
+  /** moment of inertia about the fibre, kg·m² (or give pendulum.parts) */
+  inertia_kg_m2: pos().optional(),
+  pendulum: z.strictObject({ parts: z.array(partSchema).min(1, 'must list at least one part') }).optional(),
+  /** torsion constant at the reference temperature, N·m/rad (or give fibre) */
+  kappa_Nm_per_rad: pos().optional(),
+  fibre: fibreSchema.optional(),
+  /** quality factor; damping is modelled as viscous with b = I·ω₀/Q */
+  q: z.number('must be a number').gt(0.5, 'must be > 0.5 (underdamped)'),
+  /** mean temperature, K (default 295) */
+  temperature_K: pos().default(295),
+  /** thermal torque noise on/off (default true) */
+  thermal_noise: z.boolean('must be true or false').default(true),
+  /** white angle-readout noise added before the sensor model, rad rms (default 0) */
+  angle_noise_rad: nonneg().default(0),
+  initial: z.strictObject({
+    amplitude_rad: nonneg().default(0),
+    phase_rad: num().default(0),
+    equilibrium_rad: num().default(0),
+  }).default({ amplitude_rad: 0, phase_rad: 0, equilibrium_rad: 0 }),
+  sensor: sensorSchema.default({ kind: 'angle' }),
+  temperature_swing: z.strictObject({
+    amplitude_K: nonneg(),
+    period_s: pos(),
+    phase_rad: num().default(0),
+    /** fractional change of the period per kelvin (takes precedence over dG_dT_per_K) */
+    period_coefficient_per_K: num().optional(),
+    /** (1/G)·dG/dT, per kelvin (default: the fibre material's, if the table has one) */
+    dG_dT_per_K: num().optional(),
+  }).optional(),
+  creep: creepSchema.optional(),
+  disturbances: z.array(z.strictObject({
+    t_s: nonneg(),
+    /** impulse that adds a swing of this amplitude, rad (velocity step ω₀·kick) */
+    kick_rad: num().optional(),
+    /** top clamp turned by this many turns: the equilibrium (and the body with it) steps by 2π·turns */
+    twist_turns: num().optional(),
+    /** equilibrium creep started by the disturbance (start_s defaults to t_s) */
+    creep: z.strictObject({ a_rad: num(), tc_s: pos() }).optional(),
+  })).default([]),
+  period_steps: z.array(z.strictObject({ t_s: nonneg(), ppm: num() })).default([]),
+  dropouts: z.array(z.strictObject({ t_s: nonneg(), duration_s: pos() })).default([]),
+  temperature_channel: z.strictObject({
+    /** rms noise of the thermometer, K (default 0) */
+    noise_K: nonneg().default(0),
+  }).optional(),
+  output: outputSchema,
+});
+
+export type ScenarioInput = z.input<typeof scenarioSchema>;
+type Parsed = z.output<typeof scenarioSchema>;
+
+/** A validated scenario with the derived inertia, torsion constant and output layout. */
+export type Scenario = Omit<Parsed, 'output'> & {
+  /** resolved inertia, kg·m² */
+  I: number;
+  /** resolved torsion constant at temperature_K, N·m/rad */
+  kappa: number;
+  /** resolved (1/G)dG/dT or 0, per K (used only with a temperature swing) */
+  dGdT_per_K: number;
+  /** wire output; `columns` is resolved for lines, `channels` for frames (the other is empty) */
+  output: Omit<Parsed['output'], 'columns' | 'channels'> & { columns: ColumnRole[]; channels: { role: ColumnRole; scale: number }[] };
+};
+
+/** A scenario that cannot be used: the message names the field and why. */
+export class ScenarioError extends Error {
+  constructor(message: string, readonly field: string) {
+    super(message);
+    this.name = 'ScenarioError';
+  }
+}
+
+/** The raw channels a sensor kind produces (value roles). */
+export function sensorRoles(kind: Scenario['sensor']['kind']): ValueRole[] {
+  switch (kind) {
+    case 'angle': return ['angle_rad'];
+    case 'encoder': return ['counts'];
+    case 'split-photodiode': return ['a', 'b'];
+    case 'psd': return ['x_m'];
+  }
+}
+
+/** Validate a parsed JSON value as a scenario; throws ScenarioError naming the first bad field. */
+export function parseScenario(value: unknown, source = 'scenario'): Scenario {
+  const r = scenarioSchema.safeParse(value);
+  if (!r.success) {
+    const issue = r.error.issues[0];
+    const field = issue.path.map((p) => (typeof p === 'number' ? `[${p}]` : String(p))).join('.').replace(/\.\[/g, '[');
+    if (issue.code === 'unrecognized_keys') {
+      const keys = (issue as { keys: string[] }).keys;
+      const where = field ? `${field}.` : '';
+      throw new ScenarioError(`${source}: ${where}${keys[0]}: unknown field`, `${where}${keys[0]}`);
+    }
+    let msg = issue.message;
+    if (issue.code === 'invalid_type' && valueAt(value, issue.path) === undefined) msg = 'is required';
+    throw new ScenarioError(`${source}: ${field || '(top level)'}: ${msg}`, field);
+  }
+  return resolve(r.data, source);
+}
+
+function valueAt(root: unknown, path: PropertyKey[]): unknown {
+  let v: unknown = root;
+  for (const k of path) {
+    if (v === null || typeof v !== 'object') return undefined;
+    v = (v as Record<PropertyKey, unknown>)[k];
+  }
+  return v;
+}
+
+/** Cross-field rules and derived quantities. */
+function resolve(s: Parsed, source: string): Scenario {
+  const fail = (field: string, msg: string): never => {
+    throw new ScenarioError(`${source}: ${field}: ${msg}`, field);
+  };
+  // inertia
+  let I: number;
+  if (s.inertia_kg_m2 !== undefined && s.pendulum) fail('pendulum', 'give either inertia_kg_m2 or pendulum.parts, not both');
+  if (s.inertia_kg_m2 !== undefined) I = s.inertia_kg_m2;
+  else if (s.pendulum) {
+    try {
+      I = inertiaFromParts(s.pendulum.parts);
+    } catch (e) {
+      if (e instanceof InertiaPartError) fail(e.field, e.message.slice(e.field.length + 2));
+      throw e;
+    }
+  } else I = fail('inertia_kg_m2', 'is required (or give pendulum.parts)');
+  // torsion constant
+  const material = s.fibre?.material !== undefined ? lookupMaterial(s.fibre.material) : undefined;
+  if (s.fibre?.material !== undefined && !material && s.fibre.shear_modulus_Pa === undefined) {
+    fail('fibre.material', `unknown material "${s.fibre.material}" (known: ${materialNames().join(', ')}; or give fibre.shear_modulus_Pa)`);
+  }
+  let kappa: number;
+  if (s.kappa_Nm_per_rad !== undefined) kappa = s.kappa_Nm_per_rad;
+  else if (s.fibre) {
+    const G = s.fibre.shear_modulus_Pa ?? material?.shearModulus.value ?? fail('fibre.material', 'is required (or fibre.shear_modulus_Pa) to compute κ');
+    if (s.fibre.diameter_m !== undefined) {
+      if (s.fibre.width_m !== undefined) fail('fibre.width_m', 'give either diameter_m (round) or width_m/thickness_m (ribbon), not both');
+      kappa = kappaRound(G, s.fibre.diameter_m, s.fibre.length_m);
+    } else if (s.fibre.width_m !== undefined && s.fibre.thickness_m !== undefined) {
+      kappa = kappaRibbon(G, s.fibre.width_m, s.fibre.thickness_m, s.fibre.length_m);
+    } else kappa = fail('fibre.diameter_m', 'is required (or width_m and thickness_m for a ribbon)');
+  } else kappa = fail('kappa_Nm_per_rad', 'is required (or give fibre)');
+  // temperature coefficient
+  let dGdT = 0;
+  if (s.temperature_swing && s.temperature_swing.period_coefficient_per_K === undefined) {
+    dGdT = s.temperature_swing.dG_dT_per_K ?? material?.dGdT_per_K?.value
+      ?? fail('temperature_swing.dG_dT_per_K', 'is required (or period_coefficient_per_K) when the material table has no value');
+  }
+  for (const [i, d] of s.disturbances.entries()) {
+    if (d.kick_rad === undefined && d.twist_turns === undefined && d.creep === undefined) fail(`disturbances[${i}]`, 'needs kick_rad, twist_turns or creep');
+  }
+  // output layout
+  const own = sensorRoles(s.sensor.kind);
+  const psdHalves = (roles: string[]) => s.sensor.kind === 'psd' && roles.includes('a') && roles.includes('b');
+  let columns: ColumnRole[] = [];
+  let channels: { role: ColumnRole; scale: number }[] = [];
+  const extra: ValueRole[] = s.temperature_channel ? ['temp_C'] : [];
+  if (s.output.format === 'lines') {
+    columns = (s.output.columns as ColumnRole[] | undefined) ?? ['t_s', ...own, ...extra];
+    if (s.output.channels) fail('output.channels', 'applies to format "frames" only (use output.columns)');
+    checkRoles(columns, 'output.columns');
+  } else {
+    if (!s.output.channels) fail('output.channels', 'is required for format "frames"');
+    channels = s.output.channels!.map((c) => ({ role: c.role as ColumnRole, scale: c.scale }));
+    if (s.output.columns) fail('output.columns', 'applies to format "lines" only (use output.channels)');
+    checkRoles(channels.map((c) => c.role), 'output.channels');
+    const timeIdx = channels.findIndex((c) => (TIME_ROLES as readonly string[]).includes(c.role));
+    if (timeIdx >= 0) fail(`output.channels[${timeIdx}].role`, 'frames carry the device time in their header; a time role is not a channel');
+  }
+  function checkRoles(roles: ColumnRole[], field: string): void {
+    const seen = new Set<string>();
+    for (const r of roles) {
+      if (r !== '_' && seen.has(r)) fail(field, `"${r}" is listed twice`);
+      seen.add(r);
+    }
+    const needs = psdHalves(roles) ? [] : own;
+    for (const r of needs) if (!roles.includes(r)) fail(field, `sensor "${s.sensor.kind}" writes a "${r}" channel; list it`);
+    if (roles.includes('temp_C') && !s.temperature_channel) fail(field, '"temp_C" needs temperature_channel');
+    for (const r of roles) {
+      if (r === '_' || (TIME_ROLES as readonly string[]).includes(r)) continue;
+      if (!own.includes(r as ValueRole) && r !== 'temp_C' && !(psdHalves(roles) && (r === 'a' || r === 'b'))) {
+        fail(field, `"${r}" is not produced by sensor "${s.sensor.kind}"`);
+      }
+    }
+  }
+  return { ...s, I, kappa, dGdT_per_K: dGdT, output: { ...s.output, columns, channels } };
+}
+
+/** Read and validate a scenario file; errors name the file and the field. */
+export function loadScenario(path: string): Scenario {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (e) {
+    throw new ScenarioError(`${path}: cannot read scenario file (${(e as NodeJS.ErrnoException).code ?? e})`, '');
+  }
+  let json: unknown;
+  try {
+    json = JSON.parse(text);
+  } catch (e) {
+    throw new ScenarioError(`${path}: not valid JSON (${(e as Error).message})`, '');
+  }
+  return parseScenario(json, path);
+}
