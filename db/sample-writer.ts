@@ -11,6 +11,8 @@ export interface SampleWriterOptions {
   maxLatencyMs?: number;
   /** sealed chunks held before they are committed without waiting for a flush; default 64 */
   maxPendingChunks?: number;
+  /** shuffle + deflate float channels too: about half the bytes, about half the write speed; default false */
+  deflateFloats?: boolean;
 }
 
 interface PendingRow extends EncodedChunk {
@@ -31,6 +33,7 @@ export class SampleWriter {
   private readonly C: number;
   private readonly maxLatencyMs: number;
   private readonly maxPending: number;
+  private readonly deflateFloats: boolean;
   private readonly tBuf: Float64Array;
   private readonly fBuf: Uint8Array;
   private anyFlag = false;
@@ -61,6 +64,7 @@ export class SampleWriter {
     this.C = C;
     this.maxLatencyMs = lat;
     this.maxPending = Math.max(1, opts.maxPendingChunks ?? 64);
+    this.deflateFloats = opts.deflateFloats ?? false;
     this.tBuf = new Float64Array(C);
     this.fBuf = new Uint8Array(C);
     const run = db.prepare('SELECT samples FROM runs WHERE id = ?').get(runId) as { samples: number } | undefined;
@@ -155,7 +159,7 @@ export class SampleWriter {
     const rows: PendingRow[] = [];
     const flags = this.anyFlag ? this.fBuf : null;
     for (const [c, b] of this.vBufs!) {
-      rows.push({ ...encodeChunk(this.tBuf, b, flags, 0, this.fill), channel: c, seq: this.seq });
+      rows.push({ ...encodeChunk(this.tBuf, b, flags, 0, this.fill, { deflateFloats: this.deflateFloats }), channel: c, seq: this.seq });
     }
     return rows;
   }

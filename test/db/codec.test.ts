@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import {
   decodeChunk, decodeTimes, decodeValues, encodeChunk, encodeTimes, encodeValues,
-  DEFLATED_FLAGS, DEFLATED_VALUE,
+  DEFLATED_FLAGS, DEFLATED_VALUE, shuffleBytes, unshuffleBytes,
 } from '../../db/codec.js';
 
 /** mulberry32: small seeded PRNG so the random cases are reproducible. */
@@ -164,6 +164,35 @@ describe('chunks', () => {
     expect(c.value_kind).toBe('ivarint');
     expect(c.deflated & DEFLATED_VALUE).toBeTruthy();
     expect(Array.from(decodeChunk(c).v)).toEqual(Array.from(v));
+  });
+
+  it('float blobs are deflated only on request, byte-shuffled first, and decode to the same values', () => {
+    const r = rng(21);
+    const t = Float64Array.from({ length: 4096 }, (_, i) => i * 0.05);
+    const v = Float64Array.from({ length: 4096 }, (_, i) => 0.012 + 1e-3 * Math.cos(i * 0.0338) + 1e-7 * (r() - 0.5));
+    const plain = encodeChunk(t, v, null);
+    expect(plain.value_kind).toBe('f32off');
+    expect(plain.deflated & DEFLATED_VALUE).toBe(0);
+    expect(plain.value_blob.length).toBe(4 * 4096);
+    const packed = encodeChunk(t, v, null, 0, 4096, { deflateFloats: true });
+    expect(packed.deflated & DEFLATED_VALUE).toBeTruthy();
+    expect(packed.value_blob.length).toBeLessThan(0.75 * 4 * 4096);
+    const a = decodeChunk(plain).v;
+    const b = decodeChunk({ ...packed, value_blob: misaligned(packed.value_blob) }).v;
+    expect(Buffer.from(a.buffer).equals(Buffer.from(b.buffer))).toBe(true);
+    // f64 fallback goes through the same shuffle path
+    const wide = Float64Array.from({ length: 512 }, (_, i) => (i % 2 ? 1e300 : -1e300) * (1 + i * 1e-3));
+    const wz = encodeChunk(t, wide, null, 0, 512, { deflateFloats: true });
+    expect(wz.value_kind).toBe('f64');
+    expect(Array.from(decodeChunk(wz).v)).toEqual(Array.from(wide));
+  });
+
+  it('shuffleBytes and unshuffleBytes are inverses', () => {
+    const src = Uint8Array.from({ length: 64 }, (_, i) => i);
+    const s4 = shuffleBytes(src, 4);
+    expect(Array.from(s4.subarray(0, 4))).toEqual([0, 4, 8, 12]);
+    expect(Array.from(unshuffleBytes(s4, 4))).toEqual(Array.from(src));
+    expect(Array.from(unshuffleBytes(shuffleBytes(src, 8), 8))).toEqual(Array.from(src));
   });
 
   it('encodes a sub-range of larger arrays', () => {

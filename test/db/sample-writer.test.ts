@@ -154,6 +154,24 @@ describe('SampleWriter and readSamples', () => {
     db.close();
   });
 
+  it('deflateFloats stores fewer bytes and reads back the same samples', () => {
+    const db = openStore(tmpFile());
+    const rec = recording(10_000, 4);
+    const sizes: number[] = [];
+    const back: Float64Array[] = [];
+    for (const deflateFloats of [false, true]) {
+      const run = newRun(db);
+      const w = new SampleWriter(db, run, { deflateFloats });
+      w.append(rec.t, { angle: rec.angle });
+      w.flush();
+      sizes.push((db.prepare('SELECT SUM(LENGTH(value_blob)) AS b FROM sample_chunks WHERE run_id = ?').get(run) as { b: number }).b);
+      back.push(readSamples(db, run, 'angle').v);
+    }
+    expect(sizes[1]).toBeLessThan(0.8 * sizes[0]);
+    expect(Buffer.from(back[0].buffer).equals(Buffer.from(back[1].buffer))).toBe(true);
+    db.close();
+  });
+
   it('a second writer on the same run continues after the stored chunks', () => {
     const db = openStore(tmpFile());
     const run = newRun(db);
