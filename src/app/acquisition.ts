@@ -43,7 +43,8 @@ export class Acquisition {
     this.session.flush();
   }
 
-  private handle(r: DecodeResult): void {
+  /** A decoder result (from `bytes`, or from a file replay that drives the decoder itself). */
+  handle(r: DecodeResult): void {
     for (const inc of r.incidents) this.session.incident(inc);
     for (const raw of r.blocks) {
       const ab = this.session.ingest(this.convert(raw));

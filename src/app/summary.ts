@@ -41,7 +41,7 @@ export function buildSummary(db: Database.Database, runId: number): ShowSummary 
   const ws = listWindows(db, runId);
   let overlap = 4;
   try {
-    const cfg = run.station_config ?? null;
+    const cfg = run.station_config as { analysis?: { window_periods: number; step_periods: number } } | null;
     if (cfg?.analysis) overlap = cfg.analysis.window_periods / cfg.analysis.step_periods;
   } catch { /* default overlap */ }
   const s = summariseWindows(ws, overlap);

@@ -1,0 +1,52 @@
+/** `fibrewatch import FILE --station F`: a recorded file through the same pipeline, as a new run. */
+import { statSync } from 'node:fs';
+import cliProgress from 'cli-progress';
+import { loadStation } from '../../config/station.js';
+import { importFile } from '../../app/import-file.js';
+import { buildSummary } from '../../app/summary.js';
+import { parseDateArg } from '../../../db/runs.js';
+import { RuntimeError, UsageError } from '../errors.js';
+import { openForWrite } from '../store.js';
+import { renderSummary } from './show.js';
+
+export async function importCommand(file: string, opts: { station: string; startedAt?: string; db?: string; json?: boolean }): Promise<void> {
+  const station = loadStation(opts.station);
+  let startedAtMs: number | undefined;
+  if (opts.startedAt !== undefined) {
+    try {
+      startedAtMs = parseDateArg(opts.startedAt);
+    } catch {
+      throw new UsageError(`--started-at: "${opts.startedAt}" is not an ISO 8601 time`);
+    }
+  }
+  let size: number;
+  try {
+    size = statSync(file).size;
+  } catch (e) {
+    throw new UsageError(`${file}: cannot read (${(e as NodeJS.ErrnoException).code ?? e})`);
+  }
+  const db = openForWrite(opts.db);
+  const bar = process.stderr.isTTY
+    ? new cliProgress.SingleBar({
+      format: 'import |{bar}| {percentage}% · {rate} MB/s · eta {eta_formatted}',
+      stream: process.stderr,
+      hideCursor: true,
+    }, cliProgress.Presets.shades_classic)
+    : undefined;
+  const t0 = performance.now();
+  bar?.start(size, 0, { rate: '0.0' });
+  try {
+    const res = await importFile(db, station, file, {
+      startedAtMs,
+      onProgress: (done) => bar?.update(done, { rate: (done / 1e6 / ((performance.now() - t0) / 1000 || 1)).toFixed(1) }),
+      log: (l) => { if (bar) bar.stop(); process.stderr.write(l + '\n'); },
+    });
+    bar?.stop();
+    if (res.samples === 0) throw new RuntimeError(`${file}: no samples decoded (${res.badRecords} bad records); check input.format and input.columns`);
+    const s = buildSummary(db, res.runId);
+    process.stdout.write(opts.json ? JSON.stringify(s, null, 2) + '\n' : renderSummary(s));
+  } finally {
+    bar?.stop();
+    db.close();
+  }
+}
