@@ -36,6 +36,8 @@ export interface WindowSeriesOptions {
   temp_phase_rad?: number;
   /** equilibrium creep θ = a·ln(1 + (t − t0)/t_c) after t0 */
   creep?: { t0_s: number; a_rad: number; t_c_s: number } | null;
+  /** linear equilibrium ramp at rate_rad_per_s from t0_s to t1_s (flat after) */
+  ramp?: { t0_s: number; t1_s: number; rate_rad_per_s: number } | null;
   /** period step by ppm at t_s */
   period_step?: { t_s: number; ppm: number } | null;
   /** fraction of windows that are glitches (equilibrium off by 50 σ, period by 30 ppm; default 0) */
@@ -78,6 +80,7 @@ export function simulateWindowSeries(o: WindowSeriesOptions): WindowResult[] {
     const tm = (k + 0.5) * T;
     let eq = 1e-3;
     if (o.creep && tm > o.creep.t0_s) eq += o.creep.a_rad * Math.log1p((tm - o.creep.t0_s) / o.creep.t_c_s);
+    if (o.ramp && tm > o.ramp.t0_s) eq += o.ramp.rate_rad_per_s * (Math.min(tm, o.ramp.t1_s) - o.ramp.t0_s);
     let rel = coef * (temp(tm) - 21);
     if (o.period_step) {
       // fraction of this segment after the step

@@ -33,6 +33,8 @@ export interface WatchEquilibriumOptions {
   min_points?: number;
   /** least time between `updated` incidents, s (default 1800) */
   update_every_s?: number;
+  /** least time between two refits of the creep model while raised, s (default 600) */
+  creep_refit_s?: number;
   /** hysteresis (defaults 0.7 and 3, see alert-state.ts) */
   clear_fraction?: number;
   clear_after?: number;
@@ -49,6 +51,7 @@ export function watchEquilibrium(opts: WatchEquilibriumOptions = {}) {
   const minPoints = opts.min_points ?? 20;
   if (!(thr > 0)) throw new RangeError(`watchEquilibrium: threshold_rad_per_hour must be > 0, got ${thrH}`);
   if (!(horizon > 0)) throw new RangeError(`watchEquilibrium: rate_horizon_s must be > 0, got ${horizon}`);
+  const refitEvery = opts.creep_refit_s ?? 600;
   const keep = Math.max(horizon, fitHorizon);
   return (source: Observable<WindowResult>) =>
     new Observable<Incident>((sub) => {
@@ -61,6 +64,9 @@ export function watchEquilibrium(opts: WatchEquilibriumOptions = {}) {
       let ys: number[] = [];
       let ss: number[] = [];
       let head = 0;
+      let lastFitT = -Infinity;
+      let forecast: SettleForecast | null = null;
+      let creep: Record<string, unknown> | undefined;
       const onWindow = (w: WindowResult) => {
         if (w.status !== 'ok' || w.equilibrium_rad === null || !Number.isFinite(w.equilibrium_rad)) return;
         const t = w.t_mid_s;
@@ -77,9 +83,11 @@ export function watchEquilibrium(opts: WatchEquilibriumOptions = {}) {
         const excess = (Math.abs(rate) - thr) / (sigma > 0 ? sigma : Number.MIN_VALUE);
         const significant = Math.abs(rate) > thr && excess > z;
         const willRaise = !alert.active && significant;
-        let forecast: SettleForecast | null = null;
-        let creep: Record<string, unknown> | undefined;
-        if (alert.active || willRaise) {
+        if (!alert.active && !willRaise) { forecast = null; creep = undefined; lastFitT = -Infinity; }
+        else if (willRaise || t - lastFitT >= refitEvery) {
+          lastFitT = t;
+          forecast = null;
+          creep = undefined;
           const onset = (alert.active ? alert.raisedAt : t) - horizon / 2;
           let j0 = head;
           while (j0 < ts.length && ts[j0] < Math.max(onset, t - fitHorizon)) j0++;

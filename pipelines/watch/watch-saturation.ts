@@ -40,7 +40,7 @@ export function watchSaturation(opts: WatchSaturationOptions = {}) {
         const tEnd = b.t[b.n - 1];
         q.push({ t: tEnd, n: b.n, sat: k });
         n += b.n; sat += k;
-        while (head < q.length - 1 && q[head].t < tEnd - interval) { n -= q[head].n; sat -= q[head].sat; head++; }
+        while (head < q.length - 1 && q[head].t <= tEnd - interval * (1 - 1e-9)) { n -= q[head].n; sat -= q[head].sat; head++; }
         if (head > 1024) { q.splice(0, head); head = 0; }
         const frac = sat / n;
         const inc = alert.step({
