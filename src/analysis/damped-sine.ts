@@ -244,7 +244,13 @@ export function fitDampedSine(t: Float64Array, y: Float64Array, opts: DampedSine
 
   let seed = opts.seed;
   if (!seed) {
-    const s = periodSeed(t, y, { mask, tMid, minPeriod_s: opts.minPeriod_s, maxPeriod_s: opts.maxPeriod_s });
+    // zero-weight samples are excluded from the seed as well
+    let seedMask = mask;
+    if (wIn) {
+      seedMask = new Uint8Array(nAll);
+      for (let i = 0; i < nAll; i++) seedMask[i] = (mask && mask[i]) || wIn[i] === 0 ? 1 : 0;
+    }
+    const s = periodSeed(t, y, { mask: seedMask, tMid, minPeriod_s: opts.minPeriod_s, maxPeriod_s: opts.maxPeriod_s });
     if (!s.ok) {
       const st = s.reason === 'non-finite-input' ? FIT_STATUS.nonFiniteInput
         : s.reason === 'too-few-samples' ? FIT_STATUS.tooFewSamples : FIT_STATUS.noOscillation;
