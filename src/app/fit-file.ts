@@ -1,0 +1,94 @@
+/** The one-shot fit of a recorded file as a single window (`fibrewatch fit`). */
+import type { Station } from '../config/station.js';
+import { FLAG_INVALID, FLAG_SATURATED } from '../config/block.js';
+import { analyseWindow } from '../analysis/window-analysis.js';
+import { readRecording } from './read-recording.js';
+import { deriveContextFor, twistLimitFor } from './derive-context.js';
+
+export interface FileFit {
+  file: string;
+  status: string;
+  samples: number;
+  samples_masked: number;
+  bad_records: number;
+  t_mid_s: number | null;
+  period_s: number | null;
+  period_sigma_s: number | null;
+  decay_time_s: number | null;
+  decay_time_sigma_s: number | null;
+  q: number | null;
+  q_sigma: number | null;
+  amplitude_rad: number | null;
+  amplitude_sigma_rad: number | null;
+  equilibrium_rad: number | null;
+  equilibrium_sigma_rad: number | null;
+  drift_rad_per_s: number | null;
+  drift_sigma_rad_per_s: number | null;
+  phase_rad: number | null;
+  residual_rms_rad: number | null;
+  chi2_red: number | null;
+  kappa_Nm_per_rad?: number | null;
+  kappa_sigma_Nm_per_rad?: number | null;
+  shear_modulus_Pa?: number | null;
+  shear_modulus_sigma_Pa?: number | null;
+  /** largest excursion from equilibrium in the record, rad, and the fibre's elastic limit */
+  max_twist_rad: number | null;
+  twist_limit_rad?: number;
+  /** a caution to show (twist near the elastic limit), if any */
+  caution?: string;
+}
+
+/** Fit one file; a file that cannot be fitted comes back with its status, never with numbers. */
+export async function fitFile(path: string, station: Station): Promise<FileFit> {
+  const rec = await readRecording(path, station);
+  const n = rec.t.length;
+  const mask = new Uint8Array(n);
+  let masked = 0;
+  for (let i = 0; i < n; i++) {
+    if (rec.flags[i] & (FLAG_SATURATED | FLAG_INVALID) || !Number.isFinite(rec.angle[i])) { mask[i] = 1; masked++; }
+  }
+  const w = { index: 0, t: rec.t, y: rec.angle, mask, temp: rec.temp, t_start_s: n ? rec.t[0] : 0, t_end_s: n ? rec.t[n - 1] : 0 };
+  const ctx = deriveContextFor(station);
+  const { result: r } = n >= 2 ? analyseWindow(w, { derive: ctx }) : { result: null };
+  const out: FileFit = {
+    file: path,
+    status: r ? r.status : 'too-few-samples',
+    samples: r ? r.samples : n,
+    samples_masked: masked,
+    bad_records: rec.badRecords,
+    t_mid_s: r ? r.t_mid_s : null,
+    period_s: r?.period_s ?? null, period_sigma_s: r?.period_sigma_s ?? null,
+    decay_time_s: r?.decay_time_s ?? null, decay_time_sigma_s: r?.decay_time_sigma_s ?? null,
+    q: r?.q ?? null, q_sigma: r?.q_sigma ?? null,
+    amplitude_rad: r?.amplitude_rad ?? null, amplitude_sigma_rad: r?.amplitude_sigma_rad ?? null,
+    equilibrium_rad: r?.equilibrium_rad ?? null, equilibrium_sigma_rad: r?.equilibrium_sigma_rad ?? null,
+    drift_rad_per_s: r?.drift_rad_per_s ?? null, drift_sigma_rad_per_s: r?.drift_sigma_rad_per_s ?? null,
+    phase_rad: r?.phase_rad ?? null, residual_rms_rad: r?.residual_rms_rad ?? null, chi2_red: r?.chi2_red ?? null,
+    max_twist_rad: null,
+  };
+  if (ctx.inertia_kg_m2 !== undefined) {
+    out.kappa_Nm_per_rad = r?.kappa_Nm_per_rad ?? null;
+    out.kappa_sigma_Nm_per_rad = r?.kappa_sigma_Nm_per_rad ?? null;
+    if (ctx.length_m !== undefined && (ctx.diameter_m !== undefined || ctx.width_m !== undefined)) {
+      out.shear_modulus_Pa = r?.shear_modulus_Pa ?? null;
+      out.shear_modulus_sigma_Pa = r?.shear_modulus_sigma_Pa ?? null;
+    }
+  }
+  // the twist the fibre saw: largest excursion from the fitted (or median) equilibrium
+  if (n) {
+    const eq = out.equilibrium_rad ?? 0;
+    let m = 0;
+    for (let i = 0; i < n; i++) if (!mask[i]) m = Math.max(m, Math.abs(rec.angle[i] - eq));
+    out.max_twist_rad = m;
+    const lim = twistLimitFor(station);
+    if (lim) {
+      out.twist_limit_rad = lim.theta_max_rad;
+      if (m >= station.alerts.twist_fraction * lim.theta_max_rad) {
+        out.caution = `twist of ${(m / (2 * Math.PI)).toFixed(2)} turns reaches ${((100 * m) / lim.theta_max_rad).toFixed(0)} % of this fibre's elastic limit (${lim.turns.toFixed(1)} turns; ${lim.basis}). `
+          + 'Beyond it the fibre can set permanently or break, dropping the suspended mass: reduce the swing, use a catcher, stay within the rated load. '
+          + 'This limit is guidance, not certification; local codes and licensed practice govern.';
+      }
+    }
+  }
+  return out;
+}

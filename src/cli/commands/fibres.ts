@@ -1,0 +1,36 @@
+/** `fibrewatch fibres` and `fibrewatch fibre NAME`: fibres and their history across runs. */
+import { fibreHistory, listFibres } from '../../../db/fibres.js';
+import { RuntimeError } from '../errors.js';
+import { fmt, table, withSigma } from '../format.js';
+import { withQueryStore } from '../store.js';
+
+export async function fibresCommand(opts: { db?: string; json?: boolean }): Promise<void> {
+  withQueryStore(opts.db, (db) => {
+    const fs = listFibres(db);
+    if (opts.json) return void process.stdout.write(JSON.stringify(fs, null, 2) + '\n');
+    if (!fs.length) return void process.stderr.write('no fibres in this store\n');
+    process.stdout.write(table(
+      ['fibre', 'material', 'd (µm)', 'L (m)', 'runs', 'first run', 'last run'],
+      fs.map((f) => [f.name, f.material ?? '', f.diameter_m ? fmt(f.diameter_m * 1e6) : '', fmt(f.length_m), String(f.runs), f.first_run ?? '', f.last_run ?? '']),
+    ));
+  });
+}
+
+export async function fibreCommand(name: string, opts: { db?: string; json?: boolean }): Promise<void> {
+  withQueryStore(opts.db, (db) => {
+    if (!listFibres(db).some((f) => f.name === name)) throw new RuntimeError(`fibre "${name}": not in this store (see \`fibrewatch fibres\`)`);
+    const rows = fibreHistory(db, name);
+    if (opts.json) return void process.stdout.write(JSON.stringify(rows, null, 2) + '\n');
+    process.stdout.write(`fibre ${name}: ${rows.length} run${rows.length === 1 ? '' : 's'}\n`);
+    process.stdout.write(table(
+      ['run', 'started (UTC)', 'status', 'period (s)', 'Q', 'κ (N·m/rad)', 'G (GPa)', 'creep (rad/h)', 'κ moved?'],
+      rows.map((r) => [
+        String(r.run), r.started_at.replace(/\.\d{3}Z$/, 'Z'), r.status, withSigma(r.period_s, r.period_sigma_s), fmt(r.q),
+        withSigma(r.kappa_Nm_per_rad, r.kappa_sigma_Nm_per_rad),
+        r.shear_modulus_Pa === null ? '—' : withSigma(r.shear_modulus_Pa / 1e9, (r.shear_modulus_sigma_Pa ?? 0) / 1e9),
+        r.equilibrium_rate_rad_per_s === null ? '—' : withSigma(r.equilibrium_rate_rad_per_s * 3600, (r.equilibrium_rate_sigma_rad_per_s ?? 0) * 3600),
+        r.kappa_moved === null ? '—' : r.kappa_moved ? 'yes' : 'no',
+      ]),
+    ));
+  });
+}
