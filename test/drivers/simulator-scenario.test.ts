@@ -75,3 +75,19 @@ describe('scenario files', () => {
     expect(() => loadScenario('/nonexistent/x.json')).toThrow(/\/nonexistent\/x\.json: cannot read scenario file \(ENOENT\)/);
   });
 });
+
+describe('station for a scenario', () => {
+  it('every shipped scenario yields a valid station that matches its output and sensor', async () => {
+    const { stationForScenario } = await import('../../drivers/simulator/station-for-scenario.js');
+    for (const f of readdirSync(dir).filter((x) => x.endsWith('.json'))) {
+      const sc = loadScenario(new URL(f, dir).pathname);
+      const st = stationForScenario(sc, { device: '/dev/null' });
+      expect(st.sensor.kind).toBe(sc.sensor.kind);
+      expect(st.input.format).toBe(sc.output.format);
+      expect(st.pendulum.inertia_kg_m2).toBe(sc.I);
+      expect(st.analysis.period_guess_s).toBeCloseTo(periodFromKappa(sc.I, sc.kappa), 9);
+      const other = stationForScenario(sc, { format: sc.output.format === 'lines' ? 'frames' : 'lines' });
+      expect(other.input.format).not.toBe(sc.output.format);
+    }
+  });
+});
