@@ -1,0 +1,125 @@
+/**
+ * Alert sink running a program for each alert, with the alert JSON (one line)
+ * on its stdin: no shell (spawn with shell: false, argv as given), one at a
+ * time in order, a timeout that kills it, failures reported — never thrown.
+ */
+import { spawn } from 'node:child_process';
+import type { AlertRecord } from './alert-record.js';
+import type { AlertSink } from './stderr-sink.js';
+
+/** The station's alerts.command block. */
+export interface CommandConfig {
+  /** program and arguments */
+  argv: string[];
+  /** per-run timeout, s */
+  timeout_s: number;
+}
+
+/** Counters of a command sink. */
+export interface CommandStats {
+  ran: number;
+  failed: number;
+  dropped: number;
+  pending: number;
+}
+
+/** Options of createCommandSink. */
+export interface CommandSinkOptions {
+  /** problems, one line each (default: nothing) */
+  onError?: (message: string) => void;
+  /** queue capacity; when full the oldest is dropped (default 1000) */
+  queue_max?: number;
+  /** grace between SIGTERM and SIGKILL on timeout, ms (default 2000) */
+  kill_grace_ms?: number;
+}
+
+/** A command sink with its counters. */
+export interface CommandSink extends AlertSink {
+  stats(): CommandStats;
+  close(graceMs?: number): Promise<CommandStats>;
+}
+
+/** Create a command sink for the station's alerts.command. */
+export function createCommandSink(cfg: CommandConfig, opts: CommandSinkOptions = {}): CommandSink {
+  if (!Array.isArray(cfg.argv) || cfg.argv.length < 1 || !cfg.argv[0]) throw new RangeError('alerts.command.argv: must name the program');
+  if (!(cfg.timeout_s > 0)) throw new RangeError(`alerts.command.timeout_s: must be > 0, got ${cfg.timeout_s}`);
+  const report = opts.onError ?? (() => {});
+  const cap = opts.queue_max ?? 1000;
+  const killGrace = opts.kill_grace_ms ?? 2000;
+  const q: AlertRecord[] = [];
+  const st = { ran: 0, failed: 0, dropped: 0 };
+  let running = false;
+  let closing = false;
+  let stopped = false;
+  let loop: Promise<void> = Promise.resolve();
+  let current: ReturnType<typeof spawn> | null = null;
+  const name = cfg.argv.join(' ').slice(0, 80);
+
+  const runOne = (a: AlertRecord) => new Promise<void>((resolve) => {
+    let timedOut = false;
+    let errTail = '';
+    let settled = false;
+    const finish = (problem: string | null) => {
+      if (settled) return;
+      settled = true;
+      clearTimeout(timer);
+      clearTimeout(killTimer);
+      current = null;
+      if (problem) { st.failed++; report(`alert command ${name}: ${problem} (${a.kind} ${a.state ?? ''} at ${a.t})`); }
+      else st.ran++;
+      resolve();
+    };
+    let killTimer: NodeJS.Timeout | undefined;
+    let child: ReturnType<typeof spawn>;
+    try {
+      child = spawn(cfg.argv[0], cfg.argv.slice(1), { shell: false, stdio: ['pipe', 'ignore', 'pipe'] });
+    } catch (e) {
+      finish(`cannot start: ${(e as Error).message}`);
+      return;
+    }
+    current = child;
+    const timer = setTimeout(() => {
+      timedOut = true;
+      child.kill('SIGTERM');
+      killTimer = setTimeout(() => child.kill('SIGKILL'), killGrace);
+    }, cfg.timeout_s * 1000);
+    child.on('error', (e) => finish(`cannot start: ${e.message}`));
+    child.stderr?.on('data', (c: Buffer) => { errTail = (errTail + c.toString('utf8')).slice(-500); });
+    // the program may exit without reading its stdin: EPIPE is not our failure
+    child.stdin?.on('error', () => {});
+    child.on('close', (code, signal) => {
+      if (timedOut) finish(`timed out after ${cfg.timeout_s} s, killed`);
+      else if (code !== 0) finish(`exited with ${code !== null ? `code ${code}` : `signal ${signal}`}${errTail ? `: ${errTail.trim().split('\n').at(-1)}` : ''}`);
+      else finish(null);
+    });
+    child.stdin?.end(JSON.stringify(a) + '\n');
+  });
+
+  const run = async () => {
+    running = true;
+    try {
+      while (q.length > 0 && !stopped) await runOne(q.shift()!);
+    } finally {
+      running = false;
+    }
+  };
+
+  return {
+    send(a) {
+      if (closing) { report(`alert command ${name}: closed, ${a.kind} at ${a.t} not run`); return; }
+      if (q.length >= cap) { q.shift(); st.dropped++; report(`alert command ${name}: queue full (${cap}), dropped the oldest alert`); }
+      q.push(a);
+      if (!running) loop = run();
+    },
+    stats: () => ({ ...st, pending: q.length }),
+    async close(graceMs = 5000) {
+      closing = true;
+      const timer = setTimeout(() => { stopped = true; current?.kill('SIGKILL'); }, graceMs);
+      await loop;
+      clearTimeout(timer);
+      stopped = true;
+      if (q.length > 0) report(`alert command ${name}: closing with ${q.length} alert(s) not run`);
+      return { ...st, pending: q.length };
+    },
+  };
+}

@@ -1,0 +1,50 @@
+import { describe, expect, it } from 'vitest';
+import { mkdtempSync, readFileSync, existsSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { createCommandSink } from '../../src/alerts/command-sink.js';
+import type { AlertRecord } from '../../src/alerts/alert-record.js';
+
+const alert = (i: number): AlertRecord => ({
+  run: 3, station: 'bench-b', t: `2026-01-01T00:0${i}:00.000Z`, t_s: 60 * i, kind: 'period-drift', severity: 'warning',
+  state: i % 2 ? 'cleared' : 'raised', message: `period up: +${500 + i} ppm; it's "quoted" & $HOME stays literal`, value: 500 + i, threshold: 300, data: null,
+});
+// a receiver that appends its stdin to the file named by its first argument (process.argv[1] under node -e)
+const APPEND = "const fs=require('fs');let d='';process.stdin.setEncoding('utf8');process.stdin.on('data',c=>d+=c).on('end',()=>fs.appendFileSync(process.argv[1],d))";
+
+describe('command sink', () => {
+  it('runs argv without a shell, one at a time, in order, with the alert JSON on stdin', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'fw-cmd-'));
+    const out = join(dir, 'alerts.jsonl');
+    const sink = createCommandSink({ argv: [process.execPath, '-e', APPEND, out], timeout_s: 10 });
+    for (let i = 0; i < 4; i++) sink.send(alert(i));
+    const st = await sink.close(20_000);
+    expect(st).toEqual({ ran: 4, failed: 0, dropped: 0, pending: 0 });
+    const lines = readFileSync(out, 'utf8').trim().split('\n').map((l) => JSON.parse(l));
+    expect(lines).toEqual([alert(0), alert(1), alert(2), alert(3)]);
+  });
+
+  it('reports a failing program, a missing program and a timeout instead of throwing', async () => {
+    const errors: string[] = [];
+    const fail = createCommandSink({ argv: [process.execPath, '-e', "console.error('hook broke');process.exit(3)"], timeout_s: 10 }, { onError: (e) => errors.push(e) });
+    fail.send(alert(0));
+    expect(await fail.close(10_000)).toMatchObject({ ran: 0, failed: 1 });
+    expect(errors[0]).toMatch(/exited with code 3: hook broke \(period-drift raised at 2026-01-01T00:00:00\.000Z\)/);
+
+    const missing = createCommandSink({ argv: ['/nonexistent/fibrewatch-hook'], timeout_s: 1 }, { onError: (e) => errors.push(e) });
+    missing.send(alert(1));
+    expect(await missing.close(5000)).toMatchObject({ failed: 1 });
+    expect(errors[1]).toMatch(/cannot start: .*ENOENT/);
+
+    const dir = mkdtempSync(join(tmpdir(), 'fw-cmd-'));
+    const marker = join(dir, 'late');
+    const slow = createCommandSink({ argv: [process.execPath, '-e', `setTimeout(()=>require('fs').writeFileSync(${JSON.stringify(marker)},'x'),5000)`], timeout_s: 0.3 }, { onError: (e) => errors.push(e), kill_grace_ms: 200 });
+    const t0 = Date.now();
+    slow.send(alert(2));
+    expect(await slow.close(10_000)).toMatchObject({ failed: 1 });
+    expect(Date.now() - t0).toBeLessThan(3000);
+    expect(errors[2]).toMatch(/timed out after 0\.3 s, killed/);
+    expect(existsSync(marker)).toBe(false);
+    expect(() => createCommandSink({ argv: [], timeout_s: 1 })).toThrow(/alerts\.command\.argv: must name the program/);
+  });
+});
