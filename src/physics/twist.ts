@@ -2,6 +2,11 @@
  * Elastic twist limit of a round fibre (DOMAIN.md, "Fibres"): surface shear
  * strain γ = θ·d/(2L), stress τ = G·γ, largest elastic twist
  * θ_max = 2·L·τ_allow/(G·d).
+ *
+ * Caution: these limits are guidance from handbook values, not a rating of
+ * a particular fibre. A fibre that breaks drops its mass: use a catcher,
+ * enclose the pendulum, and defer to the maker's rating, local codes and
+ * licensed practice.
  */
 import { tensileStrengthAt, type Material } from './materials.js';
 

@@ -226,4 +226,32 @@ process.stderr.write(JSON.stringify(r));`;
       socat.kill('SIGTERM');
     }
   });
+
+  it('stops cleanly on SIGINT: the process exits 0 with whole lines written', async () => {
+    const code = `import { runSimulator } from './drivers/simulator/run-simulator.ts';
+import { parseScenario } from './drivers/simulator/scenario.ts';
+import { abortOnSignals } from './drivers/simulator/abort-on-signals.ts';
+const sc = parseScenario({ name: 'sig', duration_s: 3600, sample_rate_hz: 50, inertia_kg_m2: 1, kappa_Nm_per_rad: 1, q: 10, initial: { amplitude_rad: 0.1 } });
+const { signal, dispose } = abortOnSignals();
+process.stderr.write('ready\\n');
+const r = await runSimulator({ scenario: sc, out: '-', speed: 1, signal });
+dispose();
+process.stderr.write(JSON.stringify(r));`;
+    const child = spawn(process.execPath, ['--import', 'tsx', '--input-type=module', '-e', code], { cwd: new URL('../../', import.meta.url).pathname, stdio: ['ignore', 'pipe', 'pipe'] });
+    let out = '';
+    let err = '';
+    child.stdout!.on('data', (c) => { out += c; });
+    child.stderr!.on('data', (c) => {
+      err += c;
+      if (err.startsWith('ready')) setTimeout(() => child.kill('SIGINT'), 600);
+    });
+    const exit = await new Promise<number | null>((res) => child.on('exit', res));
+    expect(exit, err).toBe(0);
+    const r = JSON.parse(err.slice(err.indexOf('{')));
+    const lines = out.split('\n');
+    expect(lines.pop()).toBe(''); // ends on a whole line
+    expect(lines.filter((l) => !l.startsWith('#')).length).toBe(r.samples);
+    expect(r.samples).toBeGreaterThan(5);
+    expect(r.samples).toBeLessThan(50 * 30);
+  });
 });
