@@ -96,6 +96,7 @@ const outputSchema = z.strictObject({
   digits: z.number('must be a number').int('must be an integer').min(1, 'must be ≥ 1').max(17, 'must be ≤ 17').optional(),
 }).default({ format: 'lines' });
 
+/** The zod schema of a scenario file (fields in SI units; defaults noted per field). */
 export const scenarioSchema = z.strictObject({
   name: z.string('must be a string').min(1, 'must not be empty'),
   description: z.string('must be a string').optional(),
@@ -150,6 +151,7 @@ export const scenarioSchema = z.strictObject({
   output: outputSchema,
 });
 
+/** A scenario as written in JSON, before defaults. */
 export type ScenarioInput = z.input<typeof scenarioSchema>;
 type Parsed = z.output<typeof scenarioSchema>;
 

@@ -9,6 +9,7 @@ import { erf } from '../erfinv.js';
 import type { Rng } from './rng.js';
 import type { Scenario } from './scenario.js';
 
+/** The sensor part of a scenario. */
 export type SimSensor = Scenario['sensor'];
 
 /** Encoder count for angle θ (rad): round(θ·counts_per_rev/2π), wrapped to a signed counter of `bits` bits when given. */

@@ -21,6 +21,7 @@ export interface StrengthPoint {
   value_Pa: number;
 }
 
+/** One fibre material with sourced room-temperature properties. */
 export interface Material {
   /** canonical name */
   name: string;
@@ -48,6 +49,7 @@ const inch = 0.0254;
 const MPa = 1e6;
 const GPa = 1e9;
 
+/** The materials table (values and source ids as in the shared reference CSV). */
 export const MATERIALS: readonly Material[] = [
   {
     name: 'music wire',
