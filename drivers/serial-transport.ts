@@ -25,6 +25,18 @@
  *    gap's start; `data.start_ms`/`end_ms` give both ends.
  *  - on `giveup`, a `device-lost` alarm.
  *
+ * Hang-ups serialport misses: on Linux a read from a hung-up tty (pty master
+ * gone, USB adapter pulled) returns 0 bytes, and @serialport/bindings-cpp 13
+ * retries such reads forever — a busy loop with the port still "open" and no
+ * close or error event. It is only reported as a disconnect when the hang-up
+ * lands while the binding is polling. So, while the port is quiet, a probe
+ * checks that the path still exists and that an ioctl still works (EIO once
+ * hung up); either failure is a loss like any other.
+ *
+ * The watchdog and the probe skip a tick that follows an event-loop stall
+ * (a long synchronous query, say): data may be waiting unprocessed, and
+ * judging then would report a loss that never happened.
+ *
  * Times are host milliseconds from `now()`; the default clock is monotonic
  * (`performance.timeOrigin + performance.now()`), so a wall-clock step during
  * an outage cannot distort a gap.
@@ -39,6 +51,8 @@ import { nextDelay } from './backoff.js';
 export interface SerialPortLike {
   readonly isOpen: boolean;
   open(cb: (err: Error | null) => void): void;
+  /** modem-status ioctl (TIOCMGET); used only as a liveness probe */
+  get?(cb: (err: Error | null, status?: unknown) => void): void;
   close(cb?: (err: Error | null) => void): void;
   write(data: Buffer, cb?: (err: Error | null | undefined) => void): boolean;
   on(event: 'data', fn: (chunk: Buffer) => void): unknown;
@@ -60,6 +74,13 @@ export interface SerialSupervisorOptions {
   giveUp_s?: number;
   /** watchdog: no data for this long while open counts as a loss and the port is reopened, seconds; default off */
   noDataTimeout_s?: number;
+  /**
+   * hang-up probe: when the port has been quiet this long, check that the path
+   * still exists and the tty still answers an ioctl (a hung-up tty gives EIO),
+   * and treat a failure as a loss; seconds; default 1; 0 = off. Needed because
+   * serialport can miss a hang-up entirely (see the file comment).
+   */
+  probe_s?: number;
   /** device path missing at start(): false (default) rejects with code ENOENT; true keeps retrying with backoff */
   waitForDevice?: boolean;
   /** take serialport's exclusive lock (TIOCEXCL + flock) so a second reader cannot split the stream; default true */
@@ -135,6 +156,7 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
   private readonly maxDelay_s: number;
   private readonly giveUp_s: number | undefined;
   private readonly noDataTimeout_s: number | undefined;
+  private readonly probe_s: number;
   private readonly waitForDevice: boolean;
   private readonly openPort: (path: string, baud: number) => SerialPortLike;
   private readonly now: () => number;
@@ -171,6 +193,8 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
     if (opts.noDataTimeout_s !== undefined && !(opts.noDataTimeout_s > 0)) throw new TypeError(`noDataTimeout_s: must be > 0, got ${opts.noDataTimeout_s}`);
     this.giveUp_s = opts.giveUp_s;
     this.noDataTimeout_s = opts.noDataTimeout_s;
+    this.probe_s = opts.probe_s ?? 1;
+    if (!(this.probe_s >= 0)) throw new TypeError(`probe_s: must be ≥ 0 (0 = off), got ${opts.probe_s}`);
     this.waitForDevice = opts.waitForDevice ?? false;
     const lock = opts.lock ?? true;
     this.openPort = opts.openPort ?? ((path, baudRate) => new SerialPort({ path, baudRate, autoOpen: false, lock }));
@@ -438,16 +462,42 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
     });
   }
 
+  /** One timer per connection for both the no-data watchdog and the hang-up probe. */
   private armWatchdog(): void {
-    const limit_s = this.noDataTimeout_s;
-    if (limit_s === undefined) return;
+    const limit_ms = this.noDataTimeout_s === undefined ? undefined : this.noDataTimeout_s * 1000;
+    const probe_ms = this.probe_s > 0 ? this.probe_s * 1000 : undefined;
+    if (limit_ms === undefined && probe_ms === undefined) return;
     const port = this.port!;
-    // Check a few times per limit rather than re-arming a timer per chunk.
-    const every = Math.max(20, Math.min(1000, (limit_s * 1000) / 4));
+    const every = Math.max(20, Math.min(1000, (limit_ms ?? Infinity) / 4, (probe_ms ?? Infinity) / 2));
+    let lastTick = this.now();
+    let lastProbe = 0;
     this.watchdog = setInterval(() => {
-      const quietSince = this.lastDataMs ?? this.upAtMs;
-      if (this.now() - quietSince >= limit_s * 1000) this.onPortTrouble(port, `no data for ${limit_s} s`);
+      const t = this.now();
+      const stalled = t - lastTick > every + Math.max(100, every);
+      lastTick = t;
+      if (stalled || port !== this.port || this.state !== 'up') return; // let pending reads land first
+      const quiet = t - (this.lastDataMs ?? this.upAtMs);
+      if (limit_ms !== undefined && quiet >= limit_ms) return this.onPortTrouble(port, `no data for ${this.noDataTimeout_s} s`);
+      if (probe_ms !== undefined && quiet >= probe_ms && t - lastProbe >= probe_ms) {
+        lastProbe = t;
+        void this.probe(port);
+      }
     }, every);
+  }
+
+  /** Is the quiet port still there? Path present and the tty answering an ioctl. */
+  private async probe(port: SerialPortLike): Promise<void> {
+    try {
+      await stat(this.path);
+    } catch (e) {
+      const code = (e as NodeJS.ErrnoException).code;
+      if (code === 'ENOENT' || code === 'ENXIO' || code === 'ENODEV') this.onPortTrouble(port, `device path vanished (${code})`);
+      return;
+    }
+    if (!port.get || !port.isOpen) return;
+    const err = await new Promise<Error | null>((resolve) => port.get!((e) => resolve(e)));
+    // ENOTTY ("Inappropriate ioctl") is normal for a pty; EIO/ENXIO mean hung up.
+    if (err && /input\/output error|no such device|\bEIO\b|\bENXIO\b/i.test(err.message)) this.onPortTrouble(port, `hung up (${err.message})`);
   }
 
   private clearWatchdog(): void {

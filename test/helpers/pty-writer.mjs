@@ -7,11 +7,15 @@
 //   count       lines to write (default: until the pty goes away)
 //   rate_per_s  lines per second, 0 = as fast as the pty takes them (default 0)
 //   waitGo      open the feed, print "ready", then wait for "go" on stdin (default false)
+//   reopen      when the pty goes away, wait for the path to come back and carry on; lines due
+//               meanwhile are skipped, as an instrument's output is lost while unplugged (default false)
 //   bytes_b64   write these raw bytes instead of lines
 //   waitPath_s  how long to wait for FEED_PATH to appear, seconds (default 10)
-// stdout: "ready" once open, then one JSON line {"written":N,"error"?:CODE} at the end.
+// stdin: "go" starts a waitGo writer; "stop" ends the writing after the current batch.
+// stdout: "ready" once open, then one JSON line {"written":N,"reopens":K,"error"?:CODE} at the end;
+//   lines 0…written−1 (offset by start) were written or, with reopen, skipped while away.
 // exit 0 when done, 3 when the pty went away (EIO/ENXIO), 2 on bad usage.
-import { openSync, writeSync, existsSync, constants } from 'node:fs';
+import { openSync, closeSync, writeSync, existsSync, constants } from 'node:fs';
 import { createInterface } from 'node:readline';
 
 /** Line i of the test stream; test/helpers/pty.ts `writerLine` must match. */
@@ -40,44 +44,67 @@ async function main() {
     await sleep(10);
   }
   // O_NOCTTY: never let the pty become our controlling terminal (its hang-up would SIGHUP us).
-  const fd = openSync(feed, constants.O_WRONLY | constants.O_NOCTTY);
+  const open = () => openSync(feed, constants.O_WRONLY | constants.O_NOCTTY);
+  let fd = open();
+  let go = !spec.waitGo;
+  let stop = false;
+  let wakeGo = () => {};
+  createInterface({ input: process.stdin }).on('line', (l) => {
+    if (l.trim() === 'go') { go = true; wakeGo(); }
+    if (l.trim() === 'stop') { stop = true; go = true; wakeGo(); }
+  });
   process.stdout.write('ready\n');
-  if (spec.waitGo) {
-    const rl = createInterface({ input: process.stdin });
-    await new Promise((resolve) => rl.on('line', (l) => { if (l.trim() === 'go') { rl.close(); resolve(); } }));
-  }
+  if (!go) await new Promise((resolve) => (wakeGo = resolve));
   let written = 0;
+  let reopens = 0;
   const finish = (code, error) => {
-    process.stdout.write(JSON.stringify(error ? { written, error } : { written }) + '\n', () => process.exit(code));
+    process.stdout.write(JSON.stringify(error ? { written, reopens, error } : { written, reopens }) + '\n', () => process.exit(code));
   };
   const put = (buf) => {
     let off = 0;
     while (off < buf.length) off += writeSync(fd, buf, off, buf.length - off);
   };
-  try {
-    if (spec.bytes_b64 !== undefined) {
+  const gone = (e) => e.code === 'EIO' || e.code === 'ENXIO' || e.code === 'EBADF';
+  if (spec.bytes_b64 !== undefined) {
+    try {
       const buf = Buffer.from(spec.bytes_b64, 'base64');
       put(buf);
       written = buf.length;
       return finish(0);
+    } catch (e) {
+      if (gone(e)) return finish(3, e.code);
+      throw e;
     }
-    const t0 = performance.now();
-    while (written < count) {
-      // lines due by now (rate) or a batch of 1000 (as fast as possible)
-      const due = rate > 0 ? Math.min(count, Math.floor(((performance.now() - t0) / 1000) * rate) + 1) : Math.min(count, written + 1000);
-      if (due > written) {
-        let s = '';
-        for (let i = written; i < due; i++) s += writerLine(start + i);
+  }
+  const t0 = performance.now();
+  while (written < count && !stop) {
+    // lines due by now (rate) or a batch of 1000 (as fast as possible)
+    const due = rate > 0 ? Math.min(count, Math.floor(((performance.now() - t0) / 1000) * rate) + 1) : Math.min(count, written + 1000);
+    if (due > written) {
+      let s = '';
+      for (let i = written; i < due; i++) s += writerLine(start + i);
+      try {
         put(Buffer.from(s, 'latin1'));
         written = due;
+      } catch (e) {
+        if (!gone(e)) throw e;
+        if (!spec.reopen) return finish(3, e.code);
+        try { closeSync(fd); } catch { /* already gone */ }
+        const until = Date.now() + (spec.waitPath_s ?? 10) * 1000;
+        for (;;) {
+          if (stop) return finish(0);
+          if (Date.now() > until) return finish(3, e.code);
+          await sleep(5);
+          try { fd = open(); break; } catch { /* not back yet */ }
+        }
+        reopens++;
+        // skip what fell due while away
+        written = Math.max(due, rate > 0 ? Math.min(count, Math.floor(((performance.now() - t0) / 1000) * rate)) : 0);
       }
-      if (rate > 0) await sleep(5);
     }
-    finish(0);
-  } catch (e) {
-    if (e.code === 'EIO' || e.code === 'ENXIO' || e.code === 'EBADF') return finish(3, e.code);
-    throw e;
+    await (rate > 0 ? sleep(5) : new Promise((r) => setImmediate(r)));
   }
+  finish(0);
 }
 
 await main();

@@ -114,13 +114,17 @@ export interface WriterSpec {
   bytes?: Buffer;
   /** how long to wait for the feed path to appear, seconds; default 10 */
   waitPath_s?: number;
+  /** survive the pty going away: wait for the path to return and carry on, skipping the lines due meanwhile; default false */
+  reopen?: boolean;
 }
 
 export interface WriterResult {
   /** exit code: 0 done, 3 the pty went away, 2 bad usage */
   code: number | null;
-  /** lines (or bytes, for `bytes`) fully written */
+  /** lines (or bytes, for `bytes`) done: indexes start…start+written−1 were written (or skipped while away, with reopen) */
   written: number;
+  /** times the feed was reopened after the pty came back */
+  reopens: number;
   error?: string;
 }
 
@@ -129,6 +133,8 @@ export interface Writer {
   ready: Promise<void>;
   /** start writing (with waitGo) */
   go(): void;
+  /** ask the writer to stop after its current batch; resolves with its result */
+  finish(): Promise<WriterResult>;
   /** resolves when the writer exits */
   done: Promise<WriterResult>;
   /** kill the writer and wait for it */
@@ -157,20 +163,24 @@ export function writerProcess(feedPath: string, spec: WriterSpec = {}): Writer {
   const done = new Promise<WriterResult>((resolve) => {
     child.once('exit', (code) => {
       const last = out.trim().split('\n').pop() ?? '';
-      let parsed: { written?: number; error?: string } = {};
+      let parsed: { written?: number; reopens?: number; error?: string } = {};
       try {
         parsed = last.startsWith('{') ? JSON.parse(last) : {};
       } catch {
         // killed mid-line: no summary
       }
       if (code === 2 || (code !== 0 && code !== 3 && code !== null)) parsed.error ??= err.trim() || `exit ${code}`;
-      resolve({ code, written: parsed.written ?? 0, error: parsed.error });
+      resolve({ code, written: parsed.written ?? 0, reopens: parsed.reopens ?? 0, error: parsed.error });
     });
   });
   return {
     ready: Promise.race([ready, done.then((r) => Promise.reject(new Error(`writer exited before ready: ${r.error ?? r.code}`)))]),
     go() {
       child.stdin!.write('go\n');
+    },
+    finish() {
+      child.stdin!.write('stop\n');
+      return done;
     },
     done,
     async stop() {
