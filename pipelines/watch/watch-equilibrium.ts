@@ -95,6 +95,8 @@ export function watchEquilibrium(opts: WatchEquilibriumOptions = {}) {
             const fit = fitLogCreep(ts.slice(j0), ys.slice(j0), ss.slice(j0));
             if (fit && Math.sign(fit.a_rad) === Math.sign(rate)) {
               forecast = forecastSettle(fit, thr);
+              // overlapping windows share noise: the fit's σ understates like the trend's does
+              forecast.sigma_s *= Math.sqrt(overlap);
               creep = { a_rad: fit.a_rad, a_sigma_rad: fit.a_sigma_rad, t_c_s: fit.t_c_s, t0_s: fit.t0_s, settle_t_s: forecast.t_s, settle_sigma_s: forecast.sigma_s, forecast_reliable: forecast.reliable };
             }
           }
