@@ -1,0 +1,120 @@
+import { Observable } from 'rxjs';
+import { FLAG_INVALID, type AngleBlock } from '../src/config/block.js';
+import { BlockBuffer } from '../src/analysis/block-buffer.js';
+import { Decimator, medianInterval, type DecimatedSamples } from '../src/analysis/decimate.js';
+
+/** Options of `condition`. */
+export interface ConditionOptions {
+  /** decimation factor M, integer ≥ 1 (1 = pass the stream through untouched); fixed for the run, see chooseDecimationFactor */
+  factor: number;
+  /** input sample interval, seconds (default: the median interval of the first `referenceSamples` samples) */
+  sampleInterval_s?: number;
+  /** Butterworth order of the anti-alias filter, even (default 8) */
+  order?: number;
+  /** cutoff as a fraction of the output Nyquist frequency (default 0.4) */
+  cutoffFraction?: number;
+  /** samples used to estimate the interval when not given (default 64) */
+  referenceSamples?: number;
+}
+
+/**
+ * Anti-alias low-pass and decimation by `factor` of a cleaned stream (gaps
+ * marked by `clean`, which restart the filter). Output times are corrected
+ * for the filter's DC group delay; the other channels (temp_C, …) are
+ * sub-sampled at the kept samples without filtering. Flag rules: see
+ * src/analysis/decimate.ts. With the interval estimated, output starts once
+ * `referenceSamples` samples have arrived; completion flushes them.
+ *
+ * @example
+ * ```ts
+ * blocks$.pipe(clean({ hampelHalfWidth: 5, hampelThreshold: 5 }), condition({ factor: 10 }))
+ *   .subscribe((b) => console.log(b.n));
+ * ```
+ * @param opts decimation factor and filter options
+ * @return an operator from AngleBlock to AngleBlock
+ */
+export function condition(opts: ConditionOptions): (source: Observable<AngleBlock>) => Observable<AngleBlock> {
+  const M = opts.factor;
+  if (!Number.isInteger(M) || M < 1) throw new RangeError(`factor: must be an integer ≥ 1 (got ${M})`);
+  const refN = opts.referenceSamples ?? 64;
+  if (!Number.isInteger(refN) || refN < 2) throw new RangeError(`referenceSamples: must be an integer ≥ 2 (got ${refN})`);
+  if (opts.sampleInterval_s !== undefined && !(opts.sampleInterval_s > 0)) throw new RangeError(`sampleInterval_s: must be > 0 (got ${opts.sampleInterval_s})`);
+  if (M === 1) return (source) => source;
+  const make = (dt: number): Decimator => new Decimator({ factor: M, sampleInterval_s: dt, order: opts.order, cutoffFraction: opts.cutoffFraction });
+  // fail fast on bad filter options, before any data
+  make(opts.sampleInterval_s ?? 1);
+
+  return (source) =>
+    new Observable<AngleBlock>((subscriber) => {
+      let dec: Decimator | null = opts.sampleInterval_s !== undefined ? make(opts.sampleInterval_s) : null;
+      let pending: BlockBuffer | null = dec ? null : new BlockBuffer();
+      let closed = false;
+      let last: { clock: AngleBlock['clock']; hostMs: number } = { clock: 'host', hostMs: 0 };
+
+      const emit = (d: DecimatedSamples, channels: Partial<Record<string, Float64Array>>, like: { clock: AngleBlock['clock']; hostMs: number }): void => {
+        if (d.n === 0) return;
+        const out: Record<string, Float64Array> = {};
+        for (const [name, v] of Object.entries(channels)) {
+          if (!v) continue;
+          const c = new Float64Array(d.n);
+          for (let i = 0; i < d.n; i++) c[i] = v[d.index[i]];
+          out[name] = c;
+        }
+        subscriber.next({ n: d.n, t: d.t, angle: d.y, flags: d.flags, channels: out, clock: like.clock, hostMs: like.hostMs });
+      };
+
+      const drainPending = (like: { clock: AngleBlock['clock']; hostMs: number }, final: boolean): void => {
+        const p = pending!;
+        if (p.length < refN && !final) return;
+        const v = p.views();
+        const dt = medianInterval(v.t);
+        if (dt === undefined) {
+          // fewer than two usable times: nothing to filter, hand on as unusable
+          if (p.length > 0) {
+            const c = p.copy(p.start, p.end);
+            for (let i = 0; i < c.flags.length; i++) c.flags[i] |= FLAG_INVALID;
+            subscriber.next({ n: c.t.length, t: c.t, angle: c.y, flags: c.flags, channels: c.channels, ...like });
+          }
+          pending = null;
+          return;
+        }
+        dec = make(dt);
+        emit(dec.process(v.t, v.y, v.flags), v.channels, like);
+        pending = null;
+      };
+
+      const sub = source.subscribe({
+        next(block) {
+          if (closed) return;
+          try {
+            last = { clock: block.clock, hostMs: block.hostMs };
+            if (dec) {
+              emit(dec.process(block.t, block.angle, block.flags, 0, block.n), block.channels, block);
+            } else if (pending) {
+              pending.append(block.t, block.angle, block.flags, block.channels, 0, block.n);
+              drainPending(block, false);
+            }
+          } catch (e) {
+            subscriber.error(e);
+          }
+        },
+        error(e) {
+          subscriber.error(e);
+        },
+        complete() {
+          try {
+            if (pending) drainPending(last, true);
+            subscriber.complete();
+          } catch (e) {
+            subscriber.error(e);
+          }
+        },
+      });
+      return () => {
+        closed = true;
+        sub.unsubscribe();
+        dec = null;
+        pending = null;
+      };
+    });
+}

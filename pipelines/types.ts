@@ -1,0 +1,25 @@
+/**
+ * Values that flow between the pipeline operators besides `AngleBlock`
+ * (src/config/block.ts).
+ */
+
+/** One analysis window: samples of one gap-free stretch spanning `windowPeriods` periods. */
+export interface WindowData {
+  /** window index within the run, from 0 */
+  index: number;
+  /** sample times, seconds (run time base), increasing */
+  t: Float64Array;
+  /** angle, radians */
+  y: Float64Array;
+  /** 1 = usable, 0 = masked (saturated, spike or invalid; FLAG_AFTER_GAP alone does not mask) */
+  mask: Uint8Array;
+  /** temperature, °C, per sample, when the source records temp_C */
+  temp?: Float64Array;
+  /** time of the first and the last sample, seconds */
+  t_start_s: number;
+  t_end_s: number;
+  /** the period estimate the window was cut with, seconds */
+  periodHint_s: number;
+  /** true when the window is shorter than `windowPeriods`: the stretch ended (gap, end of data) or memory capped it */
+  partial: boolean;
+}
