@@ -5,7 +5,7 @@
  */
 import { TIME_ROLES, VALUE_ROLES, type ColumnRole, type RawBlock, type ValueRole } from '../src/config/block.js';
 import { BadInputLimiter, type DecodeResult, type Decoder, type DecoderStats } from './decoder.js';
-import { parseNumber } from './parse-number.js';
+import { parseNumber, scaleDecimal } from './parse-number.js';
 import { Unwrapper } from './unwrap.js';
 
 /** Options of LinesDecoder. */
@@ -38,7 +38,6 @@ const INCOMPLETE = -2;
 const OTHER = -1;
 const POW10 = new Float64Array(23);
 for (let i = 0, p = 1; i < 23; i++, p *= 10) POW10[i] = p; // exact doubles (see parse-number.ts)
-const TWO53 = 9007199254740992;
 
 /** Index of the next LF in buf[s, e), or −1. A plain loop: Uint8Array#indexOf costs more per call than a short line. */
 function findLf(buf: Uint8Array, s: number, e: number): number {
@@ -174,7 +173,7 @@ export class LinesDecoder implements Decoder {
 
   /**
    * The common case in one pass: a line of plain numbers (no blanks, at most
-   * 2^53 as significand, power of ten within ±22) separated by the separator
+   * 19 significant digits, power of ten within ±22) separated by the separator
    * byte. Returns the index of its LF, INCOMPLETE when the chunk ends first,
    * or OTHER for anything else (the general path then takes the line).
    */
@@ -199,11 +198,15 @@ export class LinesDecoder implements Decoder {
         if (++i >= len) return INCOMPLETE;
         ch = buf[i];
       }
+      // significand = m·10^loDigits + lo, as in parseNumber
       let m = 0;
+      let lo = 0;
+      let loDigits = 0;
       let digits = 0;
       let frac = 0;
       while (ch >= 48 && ch <= 57) {
-        m = m * 10 + (ch - 48);
+        if (m < 9e14) m = m * 10 + (ch - 48);
+        else (lo = lo * 10 + (ch - 48)), loDigits++;
         digits++;
         if (++i >= len) return INCOMPLETE;
         ch = buf[i];
@@ -212,7 +215,8 @@ export class LinesDecoder implements Decoder {
         if (++i >= len) return INCOMPLETE;
         ch = buf[i];
         while (ch >= 48 && ch <= 57) {
-          m = m * 10 + (ch - 48);
+          if (m < 9e14) m = m * 10 + (ch - 48);
+          else (lo = lo * 10 + (ch - 48)), loDigits++;
           digits++;
           frac++;
           if (++i >= len) return INCOMPLETE;
@@ -241,8 +245,13 @@ export class LinesDecoder implements Decoder {
         if (ed === 0 || ed > 4) return OTHER;
         p += eneg ? -ex : ex;
       }
-      if (m > TWO53 || p < -22 || p > 22) return OTHER;
-      let v = p >= 0 ? m * POW10[p] : m / POW10[-p];
+      if (p < -22 || p > 22 || loDigits > 4) return OTHER;
+      let v: number;
+      if (loDigits === 0) v = p >= 0 ? m * POW10[p] : m / POW10[-p];
+      else {
+        v = scaleDecimal(m, lo, loDigits, p);
+        if (v !== v) return OTHER;
+      }
       if (neg) v = -v;
       // what follows: the separator, or the line end after the last field
       if (col < ncol - 1) {

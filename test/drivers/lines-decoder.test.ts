@@ -87,6 +87,33 @@ describe('parseNumber', () => {
     }
   });
 
+  it('rounds 16- to 19-digit texts next to the midpoint between two doubles as parseFloat does', () => {
+    // the hardest inputs for the double-double path: the exact midpoint (2M+1)·2^(E−1)
+    // between a double M·2^E and its neighbour, cut to 16…19 digits and nudged by ±1
+    const rnd = lcg(31);
+    const f = new Float64Array(1);
+    const u = new Uint32Array(f.buffer);
+    for (let i = 0; i < 3000; i++) {
+      const e = Math.floor(rnd() * 130) - 70;
+      u[0] = rnd() * 2 ** 32;
+      u[1] = ((1023 + e) << 20) | Math.floor(rnd() * 2 ** 20);
+      const ex = ((u[1] >>> 20) & 0x7ff) - 1075;
+      const M = ((BigInt(u[1] & 0xfffff) | 0x100000n) << 32n) | BigInt(u[0]);
+      const k = 1 - ex;
+      const digits = k > 0 ? ((2n * M + 1n) * 5n ** BigInt(k)).toString() : ((2n * M + 1n) << BigInt(-k)).toString();
+      const pow10 = k > 0 ? -k : 0;
+      for (const nd of [16, 17, 18, 19]) {
+        if (digits.length <= nd) continue;
+        const head = BigInt(digits.slice(0, nd));
+        for (const d of [-1n, 0n, 1n]) {
+          const t = `${head + d}e${pow10 + digits.length - nd}`;
+          const b = enc(t);
+          expect(Object.is(parseNumber(b, 0, b.length), parseFloat(t)), t).toBe(true);
+        }
+      }
+    }
+  });
+
   it('accepts .5, 5., leading + and surrounding blanks; rejects the rest', () => {
     const p = (s: string) => parseNumber(enc(s), 0, enc(s).length);
     expect(p('.5')).toBe(0.5);
