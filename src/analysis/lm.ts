@@ -238,12 +238,6 @@ export function fitLM(problem: LMProblem, opts: LMOptions = {}): LMResult {
   return { ...best, iterations };
 }
 
-function unit(p: number, j: number): Float64Array {
-  const u = new Float64Array(p);
-  u[j] = 1;
-  return u;
-}
-
 function relChange(a: ArrayLike<number>, b: ArrayLike<number>): number {
   let m = 0;
   for (let j = 0; j < a.length; j++) m = Math.max(m, Math.abs(a[j] - b[j]) / Math.max(Math.abs(b[j]), 1e-8));

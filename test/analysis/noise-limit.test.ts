@@ -9,6 +9,7 @@
  * empirical SD equals the bound; with R = 400 windows the SD itself scatters
  * by 1/√(2R) ≈ 3.5 %, so the 15 % tolerance is > 4 standard errors.
  */
+import erf from '@stdlib/math-base-special-erf';
 import { describe, expect, it } from 'vitest';
 import { fisherBound, rifeBoorstynOmegaVariance, periodSigmaFromOmega } from '../../src/analysis/crlb.js';
 import { fitDampedSine } from '../../src/analysis/damped-sine.js';
@@ -27,6 +28,25 @@ function sd(v: number[]): number {
 }
 const mean = (v: number[]) => v.reduce((a, b) => a + b, 0) / v.length;
 
+describe('gaussianRng', () => {
+  it('draws standard normals: Kolmogorov–Smirnov against Φ from @stdlib erf, and mean/variance', () => {
+    const N = 20000;
+    const v = gaussianRng(99).fillNormal(new Float64Array(N)).sort();
+    let D = 0;
+    for (let i = 0; i < N; i++) {
+      const F = 0.5 * (1 + erf(v[i] / Math.SQRT2));
+      D = Math.max(D, Math.abs(F - i / N), Math.abs(F - (i + 1) / N));
+    }
+    // 1 % critical value of the KS statistic for large N: 1.63/√N (Smirnov's asymptotic table)
+    expect(D).toBeLessThan(1.63 / Math.sqrt(N));
+    expect(Math.abs(mean(Array.from(v)))).toBeLessThan(4 / Math.sqrt(N));
+    expect(Math.abs(sd(Array.from(v)) - 1)).toBeLessThan(4 / Math.sqrt(2 * N));
+    // same seed, same stream; another seed, another stream
+    expect(gaussianRng(5).normal()).toBe(gaussianRng(5).normal());
+    expect(gaussianRng(5).normal()).not.toBe(gaussianRng(6).normal());
+  });
+});
+
 describe('noise limit', () => {
   const t = Float64Array.from({ length: n }, (_, i) => i * dt);
   const tMid = 0.5 * (n - 1) * dt;
@@ -42,6 +62,7 @@ describe('noise limit', () => {
     const tt = Float64Array.from({ length: m }, (_, i) => i * h);
     const fb = fisherBound(tt, { ...truth, decay_time_s: Infinity }, sigma, 0.5 * (m - 1) * h);
     const rb = periodSigmaFromOmega(T, Math.sqrt(rifeBoorstynOmegaVariance(m, h, A, sigma, 'real')));
+    console.log(`undamped tone, N = ${m}: Fisher σ_T / Rife–Boorstyn (real form) σ_T = ${(fb.period_sigma_s / rb).toFixed(4)}`);
     // decay and drift are free in the Fisher matrix but nearly orthogonal to the period at the window centre
     expect(fb.period_sigma_s / rb).toBeGreaterThan(0.98);
     expect(fb.period_sigma_s / rb).toBeLessThan(1.05);
