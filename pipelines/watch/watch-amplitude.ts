@@ -40,7 +40,8 @@ export function watchAmplitude(opts: WatchAmplitudeOptions) {
       const low = createAlertState({ kind: 'amplitude-low', severity: 'warning', clear_fraction: 0.8, ...common });
       const high = createAlertState({ kind: 'amplitude-limit', severity: 'alarm', clear_fraction: 0.9, ...common });
       const onWindow = (w: WindowResult) => {
-        if (w.amplitude_rad === null || !Number.isFinite(w.amplitude_rad)) return;
+        // a rejected fit's amplitude is not to be trusted (it could cry amplitude-limit on garbage)
+        if (w.status !== 'ok' || w.amplitude_rad === null || !Number.isFinite(w.amplitude_rad)) return;
         const a = Math.abs(w.amplitude_rad);
         const t = w.t_mid_s;
         const data = { unit: 'rad', amplitude_rad: a, t_mid_s: t };

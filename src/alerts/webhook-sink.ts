@@ -5,7 +5,9 @@
  * order, one at a time, each attempt with a timeout, failures retried with a
  * capped exponential backoff. A receiver that is down for a while gets every
  * queued alert, in order, once it is back. 4xx answers other than 408/429 are
- * permanent: that alert is given up and reported.
+ * permanent: that alert is given up and reported. Delivery is at least once:
+ * an answer lost on the way back means the alert is sent again. After drops,
+ * the next body delivered carries `dropped_before` (how many were lost).
  */
 import type { AlertRecord } from './alert-record.js';
 import type { AlertSink } from './stderr-sink.js';

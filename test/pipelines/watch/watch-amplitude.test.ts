@@ -28,6 +28,8 @@ describe('watchAmplitude', () => {
     expect(inc[0].message).toContain(TWIST_CAUTION);
     expect(TWIST_CAUTION).toMatch(/permanently set or break the fibre.*drops the suspended mass.*rated load.*catcher.*local codes and licensed practice govern/);
     expect(inc[1].t).toBe(ws[62].t_mid_s);
+    const rejected = ws.map((w) => ({ ...w, status: 'no-convergence' }));
+    expect(await lastValueFrom(from(rejected).pipe(watchAmplitude({ limit_rad: 0.4 }), toArray()))).toEqual([]);
     const quiet = await lastValueFrom(from(base).pipe(watchAmplitude({ min_rad: 1e-5, limit_rad: 0.4 }), toArray()));
     expect(quiet).toEqual([]);
     expect(() => watchAmplitude({ limit_rad: -1 })).toThrow(/limit_rad must be > 0/);

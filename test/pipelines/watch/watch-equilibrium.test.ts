@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { from, lastValueFrom, toArray } from 'rxjs';
+import { concat, from, lastValueFrom, throwError, toArray } from 'rxjs';
 import { watchEquilibrium } from '../../../pipelines/watch/watch-equilibrium.js';
 import { simulateWindowSeries } from '../../../bench/watch.js';
 import type { WindowResult } from '../../../src/config/results.js';
@@ -58,5 +58,11 @@ describe('watchEquilibrium', () => {
     const bad = simulateWindowSeries({ seed: 5, hours: 8, ramp: { t0_s: 0, t1_s: 1e9, rate_rad_per_s: 3 * THR } }).map((w) => ({ ...w, status: 'no-convergence' }));
     expect(await run(bad)).toEqual([]);
     expect(() => watchEquilibrium({ threshold_rad_per_hour: 0 })).toThrow(/threshold_rad_per_hour must be > 0/);
+    // a source error passes through; an early unsubscribe leaves nothing running
+    const failing = concat(from(ws.slice(0, 10)), throwError(() => new Error('pipeline broke')));
+    await expect(lastValueFrom(failing.pipe(watchEquilibrium({}), toArray()))).rejects.toThrow('pipeline broke');
+    const sub = from(ws).pipe(watchEquilibrium({})).subscribe();
+    sub.unsubscribe();
+    expect(sub.closed).toBe(true);
   });
 });

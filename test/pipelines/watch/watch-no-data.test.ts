@@ -44,6 +44,20 @@ describe('watchNoData', () => {
     expect(got).toEqual([3000]);
   });
 
+  it('virtual time: unsubscribing stops the timer; a source error passes through', () => {
+    const ts = new TestScheduler((a, b) => expect(a).toEqual(b));
+    let lastCheck = 0;
+    ts.run(({ cold, expectObservable }) => {
+      // a leaked timer would keep checking (and, the flush never ending, hang the test)
+      const silent = cold('a 30s |', { a: block(0) }) as Observable<AngleBlock>;
+      const now = () => { lastCheck = Math.max(lastCheck, ts.now()); return ts.now(); };
+      expectObservable(silent.pipe(watchNoData({ no_data_s: 5, scheduler: ts, now, wallMs: () => 0 })), '^ 2999ms !').toBe('');
+      const failing = cold('a 999ms #', { a: block(0) }, new Error('port gone')) as Observable<AngleBlock>;
+      expectObservable(failing.pipe(watchNoData({ no_data_s: 5, scheduler: ts }))).toBe('1000ms #', undefined, new Error('port gone'));
+    });
+    expect(lastCheck).toBeLessThanOrEqual(3000);
+  });
+
   it('real timers: raised within no_data_s + 1 s, cleared by the next block', async () => {
     const src = new Subject<AngleBlock>();
     const got: { at: number; inc: Incident }[] = [];
