@@ -18,8 +18,15 @@
  *   absolute λ it oscillates near the minimum of ill-conditioned problems),
  *   so the last stage is our own Marquardt iteration (λ·diag(JᵀJ),
  *   accept/reject, Nielsen's λ update) with the same convergence rule, which
- *   also takes over when the library stalls or produces NaN. `reason` says
- *   which stage ended where.
+ *   also takes over when the library stalls, throws or produces NaN.
+ * - Retry strategy: because the library's uphill steps can jump basins
+ *   (ENSO from NIST Start 1) or run to a stationary point at infinity
+ *   (MGH09 from Start 1), our iteration also runs from p0, and the lower
+ *   converged SSR wins; only when both fail, a multistart from p0 scaled by
+ *   0.1, 10, 0.5 and 2 (BoxBOD from Start 1). A point where a parameter is
+ *   undetermined (relative SD > 1e8) is never called converged. MGH10 from
+ *   Start 1 is still not reached, and is reported as not converged.
+ *   `reason` says which stage and start gave the answer.
  * - NaN: a non-finite SSR stops the library silently; we check every burst.
  * - Bounds: the library only clamps; our stage clamps too, and `atBound`
  *   flags a parameter that ends on its bound (converged is then false).
