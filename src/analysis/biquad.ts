@@ -109,8 +109,8 @@ export function biquadSupport(sections: Float64Array, tailFraction = 1e-4, maxSa
     const v = f.step(n === 0 ? 1 : 0);
     buf[n] = v;
     total += Math.abs(v);
-    quiet = Math.abs(v) < 1e-3 * tailFraction * total ? quiet + 1 : 0;
-    if (quiet > 64 && n > 16) break;
+    quiet = Math.abs(v) < 1e-7 * tailFraction * total ? quiet + 1 : 0;
+    if (quiet > 256) break;
   }
   let tail = 0;
   for (let m = n; m > 0; m--) {
