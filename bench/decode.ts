@@ -3,7 +3,7 @@
  * (t_s,angle_rad) and a `frames` file (1 channel), in samples per second.
  * Run alone: `npx tsx bench/decode.ts` (the store is added by the full bench).
  */
-import { mkdtempSync, rmSync, writeFileSync, openSync, writeSync, closeSync } from 'node:fs';
+import { closeSync, mkdtempSync, openSync, rmSync, writeSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
@@ -83,7 +83,6 @@ export async function benchDecode(): Promise<Record<string, number>> {
     writeLines(device, 9); // a device printing 9 significant digits
     writeLines(full, undefined); // shortest round-trip text of every float64 (up to 17 digits)
     writeFrames(frames);
-    writeFileSync(join(dir, 'README'), 'temporary files of bench/decode.ts\n');
     for (let rep = 0; rep < 2; rep++) {
       // the first round warms the JIT; the second is reported
       const a = await run(device, new LinesDecoder({ columns: ['t_s', 'angle_rad'], separator: ',' }));
