@@ -57,6 +57,7 @@ export class RunSession {
   private readonly raw: ValueRole[];
   private closed = false;
   private readonly windowBuffer: WindowResult[] = [];
+  private lastGap: { t_s: number; duration_s: number; event: StoredEvent } | undefined;
 
   constructor(private readonly db: Database.Database, private readonly station: Station, private readonly opts: RunSessionOptions) {
     this.startedAtMs = opts.startedAtMs;
@@ -116,24 +117,34 @@ export class RunSession {
   }
 
   /** Map an incident to run time and UTC and queue it for the next commit. */
-  incident(inc: Incident): StoredEvent {
+  incident(inc: Incident & { runTime?: boolean }): StoredEvent {
     let t_s: number;
-    if (inc.t !== undefined && this.t0 !== undefined) t_s = inc.t - this.t0;
+    if (inc.t !== undefined && inc.runTime) t_s = inc.t;
+    else if (inc.t !== undefined && this.t0 !== undefined) t_s = inc.t - this.t0;
     else if (inc.hostMs !== undefined && this.startedAtMs !== undefined) t_s = (inc.hostMs - this.startedAtMs) / 1000;
     else t_s = this.lastT_s;
     const base = this.startedAtMs ?? Date.now();
+    if (inc.kind === 'gap' && this.sameOutage(t_s, Number(inc.data?.duration_s))) return this.lastGap!.event;
     const e: StoredEvent = {
       t_s, t_ms: base + t_s * 1000, kind: inc.kind, severity: inc.severity, message: inc.message,
       value: inc.value ?? null, threshold: inc.threshold ?? null, state: inc.state, data: inc.data,
     };
     this.pendingEvents.push(e);
+    if (e.kind === 'gap') this.lastGap = { t_s, duration_s: Number(inc.data?.duration_s), event: e };
     this.opts.onEvent?.(e);
     return e;
   }
 
-  /** An incident already on run time (t_s since the start), e.g. from the watchers. */
-  incidentAt(inc: Incident & { t_s: number }): StoredEvent {
-    return this.incident({ ...inc, t: this.t0 !== undefined ? inc.t_s + this.t0 : undefined });
+  /**
+   * One outage, one gap: the transport reports the time the device was away
+   * and the sample times jump over the same stretch; the second report of the
+   * same outage (close in time, similar length) is not stored again.
+   */
+  private sameOutage(t_s: number, duration_s: number): boolean {
+    const g = this.lastGap;
+    if (!g || !Number.isFinite(duration_s) || !Number.isFinite(g.duration_s)) return false;
+    const tol = Math.max(2, 0.5 * Math.max(duration_s, g.duration_s));
+    return Math.abs(t_s - g.t_s) < tol + 2 && Math.abs(duration_s - g.duration_s) < tol;
   }
 
   /** Queue a window result for the next commit. */

@@ -1,0 +1,94 @@
+/**
+ * Conditioning whose decimation factor waits for the first period estimate:
+ * blocks are held until an FFT over the first stretch gives the period (or the
+ * station's `period_guess_s` does), then the factor M is fixed for the run so
+ * that about `samplesPerPeriod` samples per period remain, and the held blocks
+ * and all later ones go through `condition({ factor: M })`.
+ */
+import { Observable, Subject } from 'rxjs';
+import { FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../src/config/block.js';
+import { periodSeed } from '../src/analysis/period-seed.js';
+import { chooseDecimationFactor, medianInterval } from '../src/analysis/decimate.js';
+import { condition } from './condition.js';
+
+export interface AdaptiveConditionOptions {
+  samplesPerPeriod: number;
+  /** known period, s: no waiting */
+  periodGuess_s?: number;
+  /** span of data for the first estimate, s (default 600; doubled while the FFT finds no period) */
+  firstEstimate_s?: number;
+  /** called once with the first period estimate and the chosen factor */
+  onFirstEstimate?: (period_s: number, factor: number) => void;
+  /** most samples held while waiting (default 2 000 000): then conditioning starts undecimated */
+  maxHeld?: number;
+}
+
+const BAD = FLAG_SATURATED | FLAG_SPIKE | FLAG_INVALID;
+
+/** First period estimate of held blocks: FFT seed over their concatenation (masked samples excluded). */
+export function estimatePeriod(blocks: AngleBlock[]): number | undefined {
+  let n = 0;
+  for (const b of blocks) n += b.n;
+  if (n < 64) return undefined;
+  const t = new Float64Array(n), y = new Float64Array(n), m = new Uint8Array(n);
+  let k = 0;
+  for (const b of blocks) {
+    t.set(b.t.subarray(0, b.n), k);
+    y.set(b.angle.subarray(0, b.n), k);
+    for (let i = 0; i < b.n; i++) m[k + i] = b.flags[i] & BAD || !Number.isFinite(b.angle[i]) ? 1 : 0;
+    k += b.n;
+  }
+  // the seed wants one gap-free, uniform stretch: use the last one
+  let from = 0;
+  const dt = medianInterval(t);
+  if (dt === undefined) return undefined;
+  for (let i = 1; i < n; i++) if (t[i] - t[i - 1] > 5 * dt) from = i;
+  if (n - from < 64) return undefined;
+  const s = periodSeed(t.subarray(from), y.subarray(from), { mask: m.subarray(from), maxPeriod_s: (t[n - 1] - t[from]) / 2.5 });
+  return s.ok ? s.period_s : undefined;
+}
+
+/** @return an operator from cleaned AngleBlocks to conditioned ones */
+export function adaptiveCondition(opts: AdaptiveConditionOptions): (source: Observable<AngleBlock>) => Observable<AngleBlock> {
+  return (source) =>
+    new Observable<AngleBlock>((subscriber) => {
+      let inner: Subject<AngleBlock> | null = null;
+      const held: AngleBlock[] = [];
+      let heldN = 0;
+      let need_s = opts.firstEstimate_s ?? 600;
+      const maxHeld = opts.maxHeld ?? 2_000_000;
+      const start = (period: number | undefined): void => {
+        const dt = medianInterval(held.length ? held[0].t.subarray(0, held[0].n) : new Float64Array(0)) ?? 0;
+        const factor = period && dt > 0 ? chooseDecimationFactor(period, dt, opts.samplesPerPeriod) : 1;
+        if (period) opts.onFirstEstimate?.(period, factor);
+        inner = new Subject<AngleBlock>();
+        inner.pipe(condition({ factor })).subscribe(subscriber);
+        for (const b of held) inner.next(b);
+        held.length = 0;
+      };
+      if (opts.periodGuess_s) start(opts.periodGuess_s);
+      const sub = source.subscribe({
+        next(b) {
+          if (inner) return inner.next(b);
+          held.push(b);
+          heldN += b.n;
+          const span = held[held.length - 1].t[b.n - 1] - held[0].t[0];
+          if (span >= need_s) {
+            const p = estimatePeriod(held);
+            if (p !== undefined && span >= 2.5 * p) return start(p);
+            need_s *= 2;
+          }
+          if (heldN >= maxHeld) start(estimatePeriod(held));
+        },
+        error: (e) => (inner ? inner.error(e) : subscriber.error(e)),
+        complete() {
+          if (!inner) start(estimatePeriod(held));
+          inner!.complete();
+        },
+      });
+      return () => {
+        sub.unsubscribe();
+        inner?.complete();
+      };
+    });
+}

@@ -1,0 +1,92 @@
+/**
+ * The analysis side of a run: converted, run-time blocks go into the
+ * pipeline; window results and watcher alerts come out into the store and to
+ * the station's alert sinks. The same for record, import and demo; only a live
+ * source also watches for silence (`no-data`, on host timers).
+ */
+import { Subject, merge, type Subscription } from 'rxjs';
+import type { AngleBlock } from '../config/block.js';
+import type { Incident } from '../config/events.js';
+import type { Station } from '../config/station.js';
+import { analysisPipeline } from '../../pipelines/pipeline.js';
+import { watchEquilibrium } from '../../pipelines/watch/watch-equilibrium.js';
+import { watchPeriod } from '../../pipelines/watch/watch-period.js';
+import { watchAmplitude } from '../../pipelines/watch/watch-amplitude.js';
+import { watchSaturation } from '../../pipelines/watch/watch-saturation.js';
+import { watchNoData } from '../../pipelines/watch/watch-no-data.js';
+import { createDispatcher, type AlertDispatcher } from '../alerts/alert-dispatcher.js';
+import type { BlockSink } from './acquisition.js';
+import type { RunSession } from './run-session.js';
+import { deriveContextFor, twistLimitFor } from './derive-context.js';
+
+export interface LiveSinkOptions {
+  /** a live source: watch for silence on host timers (default true) */
+  live?: boolean;
+  /** alert delivery (default: from the station's alerts block) */
+  dispatcher?: AlertDispatcher | null;
+  log?: (line: string) => void;
+}
+
+/** Build the pipeline for a session; subscribe everything before the first block. */
+export function makeLiveSink(station: Station, session: RunSession, opts: LiveSinkOptions = {}): BlockSink {
+  const log = opts.log ?? ((l: string) => process.stderr.write(l + '\n'));
+  const blocks$ = new Subject<AngleBlock>();
+  const a = station.analysis;
+  const al = station.alerts;
+  const quantum = station.sensor.kind === 'encoder' ? (2 * Math.PI) / station.sensor.counts_per_rev : undefined;
+  const p = analysisPipeline(blocks$, {
+    analysis: a,
+    derive: deriveContextFor(station),
+    quantum_rad: quantum,
+    onIncident: (inc) => session.incident(runTimeIncident(inc)),
+    onFirstEstimate: (period, factor) => log(`first period estimate ${period.toPrecision(5)} s: fitting at ${factor > 1 ? `1/${factor} of the input rate` : 'the input rate'}`),
+  });
+  const dispatcher = opts.dispatcher === undefined ? createDispatcher(al) : opts.dispatcher;
+  const lim = twistLimitFor(station);
+  const overlap = a.window_periods / a.step_periods;
+  const watchers$ = merge(
+    p.windows$.pipe(watchEquilibrium({ threshold_rad_per_hour: al.equilibrium_rate_rad_per_hour, horizon_h: al.horizon_h, overlap })),
+    p.windows$.pipe(watchPeriod({ period_change_ppm: al.period_change_ppm })),
+    p.windows$.pipe(watchAmplitude({ min_rad: al.amplitude_min_rad, limit_rad: lim ? al.twist_fraction * lim.theta_max_rad : undefined })),
+    p.cleaned$.pipe(watchSaturation({})),
+    ...(opts.live === false ? [] : [blocks$.pipe(watchNoData({ no_data_s: al.no_data_s }))]),
+  );
+  const subs: Subscription[] = [];
+  let failed: Error | undefined;
+  const done = new Promise<void>((resolve) => {
+    subs.push(p.windows$.subscribe({
+      next: (w) => session.window(w),
+      error: (e) => { failed = e; log(`analysis stopped: ${(e as Error).message}`); resolve(); },
+      complete: () => resolve(),
+    }));
+  });
+  subs.push(watchers$.subscribe({
+    next: (inc) => {
+      const e = session.incident(runTimeIncident(inc));
+      if (inc.state && dispatcher) {
+        dispatcher.dispatch({ ...inc, run: session.runId, station: station.station, t: new Date(e.t_ms).toISOString(), t_s: e.t_s });
+      }
+    },
+    error: (e) => log(`watchers stopped: ${(e as Error).message}`),
+  }));
+  return {
+    push: (b) => {
+      if (!failed) blocks$.next(b);
+    },
+    async end() {
+      blocks$.complete();
+      await done;
+      for (const s of subs) s.unsubscribe();
+      await dispatcher?.close(opts.live === false ? 2000 : 5000);
+    },
+  };
+}
+
+/**
+ * Pipeline and watcher incidents carry times on the run's time base (the
+ * blocks were rebased by the session); the session expects the samples' own
+ * base, so mark them as run time by leaving `t` for incidentAt.
+ */
+function runTimeIncident(inc: Incident): Incident & { runTime: true } {
+  return { ...inc, runTime: true };
+}

@@ -1,0 +1,16 @@
+/** `fibrewatch demo [--out DIR] [--hours H]`: the virtual balance through the real path. */
+import { runDemo } from '../../app/demo.js';
+import { renderSummary } from './show.js';
+
+export async function demoCommand(opts: { out: string; hours: number; inProcess?: boolean; seed: number }): Promise<void> {
+  const t0 = Date.now();
+  process.stderr.write('fibrewatch demo — a virtual torsion balance (invented data). Real balances: mind the laser, the suspended mass and vacuum glass; see README "Safety".\n');
+  const r = await runDemo({ out: opts.out, hours: opts.hours, inProcess: opts.inProcess, seed: opts.seed });
+  process.stdout.write('\n' + renderSummary(r.summary));
+  const kinds = new Map<string, Set<string>>();
+  for (const a of r.alerts) (kinds.get(a.kind) ?? kinds.set(a.kind, new Set()).get(a.kind)!).add(a.state!);
+  const story = [...kinds].map(([k, s]) => `${k} (${[...s].join(', ')})`).join('; ');
+  process.stdout.write(`\nalerts: ${story || 'none'}\n`);
+  process.stdout.write(`path: ${r.mode === 'pty' ? 'pseudo-terminal + serialport' : 'in-process decoder (no pseudo-terminal)'}; took ${((Date.now() - t0) / 1000).toFixed(0)} s\n`);
+  process.stdout.write(`store:  ${r.dbPath}\nreport: ${r.reportPath}\nnext:   npx fibrewatch windows ${r.summary.run} --db ${r.dbPath} | npx fibrewatch events ${r.summary.run} --db ${r.dbPath}\n`);
+}
