@@ -64,7 +64,7 @@ export function clean(opts: CleanOptions): (source: Observable<AngleBlock>) => O
         if (refDt === undefined) {
           if (b.length < refN && !final) return;
           // no positive interval at all: no gap can be judged by size
-          refDt = medianInterval(b.views().t) ?? Infinity;
+          refDt = medianInterval(b.views().t, 0, Math.min(refN, b.length)) ?? Infinity; // exactly the first refN: independent of block cuts
         }
         const limit = gapFactor * refDt;
         const { t, y, flags } = b.views();

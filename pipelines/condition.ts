@@ -67,7 +67,7 @@ export function condition(opts: ConditionOptions): (source: Observable<AngleBloc
         const p = pending!;
         if (p.length < refN && !final) return;
         const v = p.views();
-        const dt = medianInterval(v.t);
+        const dt = medianInterval(v.t, 0, Math.min(refN, v.t.length)); // exactly the first refN: independent of block cuts
         if (dt === undefined) {
           // fewer than two usable times: nothing to filter, hand on as unusable
           if (p.length > 0) {
