@@ -334,7 +334,7 @@ export class LinesDecoder implements Decoder {
     this.remaining = len;
     if (over) {
       this.lineNo++;
-      this.bad(this.tail, 0, Math.min(len, SNIPPET), `line longer than ${this.maxLine} bytes`);
+      this.bad(this.tail, 0, len, `line longer than ${this.maxLine} bytes`);
       this.lineInPush++;
       return;
     }
@@ -467,7 +467,8 @@ export class LinesDecoder implements Decoder {
 
   private bad(buf: Uint8Array, s: number, e: number, reason: string): void {
     this.stats.badRecords++;
-    const end = Math.min(e, s + SNIPPET);
+    // never more than maxLine bytes, so a long line gives the same snippet whether or not it was carried over
+    const end = Math.min(e, s + Math.min(SNIPPET, this.maxLine));
     let snippet = '';
     for (let i = s; i < end; i++) {
       const c = buf[i];

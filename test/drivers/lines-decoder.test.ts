@@ -184,6 +184,19 @@ describe('LinesDecoder', () => {
     expect({ t: bytewise.t, ch: bytewise.ch, inc: bytewise.incidents }).toEqual({ t: whole.t, ch: whole.ch, inc: whole.incidents });
   });
 
+  it('rejects an over-long line the same way however it is split', () => {
+    const o = { ...opts, maxLineBytes: 20 };
+    const bytes = enc('1,1\n' + '12345678,'.repeat(4) + '\r\n2,2\n' + '9'.repeat(21) + '\n3,3\n' + '8'.repeat(20) + '\n');
+    const whole = run(new LinesDecoder(o), [bytes]);
+    expect(whole.t).toEqual([1, 2, 3]);
+    expect(whole.incidents.length).toBe(2); // first at once, the rest held to the end
+    expect(whole.incidents[1].data!.count).toBe(2);
+    for (let k = 0; k <= bytes.length; k++) {
+      const split = run(new LinesDecoder(o), [bytes.subarray(0, k), bytes.subarray(k)]);
+      expect({ t: split.t, inc: split.incidents }, `split at ${k}`).toEqual({ t: whole.t, inc: whole.incidents });
+    }
+  });
+
   it('lets "# columns:" override the columns for the following lines', () => {
     const d = new LinesDecoder(opts);
     const c = run(d, [enc('1,0.5\n# columns: t_us;_;x_m;temp_C\n2000000,junk,0.001,21.5\n# columns: bogus,a\n3000000,x,0.002,22\n')]);
