@@ -39,6 +39,7 @@ export class FramesDecoder implements Decoder {
   private lastSeq = 0;
   private lastT = NaN;
   private dtEst = NaN; // frame interval estimate, seconds
+  private rebase = 0; // seconds added after the device clock went back (a device restart)
   private frameNo = 0;
 
   constructor(opts: FramesDecoderOptions) {
@@ -144,15 +145,20 @@ export class FramesDecoder implements Decoder {
       }
       this.inJunk = false;
       const seq = buf[i + 4] | (buf[i + 5] << 8);
-      const tf = this.clock.next(dv.getUint32(i + 6, true)) * 1e-6;
-      if (this.haveSeq) {
+      if (this.haveSeq && seq === this.lastSeq) {
+        // the same sequence number again: a repeated frame, not 65535 lost ones
+        this.bad(out, hostMs, buf, i, `repeated sequence number ${seq}`, flen);
+        i += fl;
+        continue;
+      }
+      let tf = this.clock.next(dv.getUint32(i + 6, true)) * 1e-6 + this.rebase;
+      let restarted = false;
+      if (this.haveSeq && !(tf > this.lastT)) {
+        tf = this.clockBack(out, hostMs, tf);
+        restarted = true; // the sequence starts afresh too: its jump says nothing about lost frames
+      }
+      if (this.haveSeq && !restarted) {
         const lost = (seq - this.lastSeq - 1) & 0xffff;
-        if (lost === 0xffff) {
-          // the same sequence number again: a repeated frame, not 65535 lost ones
-          this.bad(out, hostMs, buf, i, `repeated sequence number ${seq}`, flen);
-          i += fl;
-          continue;
-        }
         if (lost !== 0) this.gap(out, hostMs, lost, tf);
         else {
           const dt = tf - this.lastT;
@@ -181,6 +187,27 @@ export class FramesDecoder implements Decoder {
     }
     finish();
     return i;
+  }
+
+  /**
+   * The device clock went back (the device restarted, or its clock was set):
+   * shift the time base so times stay monotonic, continuing one frame interval
+   * after the last sample, and say so.
+   */
+  private clockBack(out: DecodeResult, hostMs: number, tf: number): number {
+    const next = this.lastT + (this.dtEst > 0 ? this.dtEst : 1e-6);
+    const step = this.lastT - tf;
+    this.rebase += next - tf;
+    out.incidents.push({
+      kind: 'clock-note',
+      severity: 'warning',
+      t: next,
+      hostMs,
+      message: `device clock went back by ${step.toPrecision(6)} s (device restart?); times continue from the last sample`,
+      value: step,
+      data: { step_s: step, rebase_s: this.rebase },
+    });
+    return next;
   }
 
   private gap(out: DecodeResult, hostMs: number, lostSeq: number, t: number): void {

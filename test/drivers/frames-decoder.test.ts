@@ -166,4 +166,17 @@ describe('FramesDecoder', () => {
     expect(d.stats.gaps).toBe(0);
     expect(d.stats.badRecords).toBe(1);
   });
+
+  it('keeps time monotonic when the device clock goes back (a restart) and says so', () => {
+    const d = new FramesDecoder({ channels });
+    // 30 frames up to 2.029 s, then the device restarts: sequence and clock from 0 again
+    const o = run(d, [concat(frames(0, 30, 2e6), frames(0, 10))]);
+    expect(o.t.length).toBe(40);
+    for (let i = 1; i < 40; i++) expect(o.t[i]).toBeGreaterThan(o.t[i - 1]);
+    expect(o.t[30]).toBeCloseTo(2.029 + 0.001, 9);
+    expect(o.t[39] - o.t[30]).toBeCloseTo(0.009, 9);
+    const note = o.incidents.find((i) => i.kind === 'clock-note')!;
+    expect(note.data!.step_s as number).toBeCloseTo(2.029, 9);
+    expect(d.stats.gaps).toBe(0); // a restart, not 65506 lost frames
+  });
 });
