@@ -113,6 +113,7 @@ export interface UpInfo {
 
 /** Typed events of `SerialSupervisor`. */
 export interface SerialSupervisorEvents {
+  /** bytes as they arrive, split anywhere; `chunk` is a view into serialport's read pool: copy it to keep it long */
   data: [chunk: Buffer, hostMs: number];
   down: [info: DownInfo];
   up: [info: UpInfo];
@@ -148,7 +149,18 @@ export class SerialTransportError extends Error {
 
 const defaultNow = () => performance.timeOrigin + performance.now();
 
-/** Keeps one serial device open across unplug/replug; see the file comment. */
+/**
+ * Keeps one serial device open across unplug/replug; see the file comment.
+ *
+ * @example
+ * const sup = new SerialSupervisor({ path: '/dev/serial/by-id/usb-…-if00', baud: 115200, waitForDevice: true });
+ * sup.on('data', (chunk, hostMs) => decoder.push(chunk, hostMs));
+ * sup.on('incident', (inc) => store.event(inc));
+ * sup.on('giveup', (err) => shutdown(err));
+ * await sup.start();
+ * // … on SIGTERM:
+ * await sup.stop();
+ */
 export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
   readonly path: string;
   readonly baud: number;
@@ -284,10 +296,13 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
       this.lastError = err.message;
       port.removeAllListeners();
       port.on('error', () => {});
+      // bindings-cpp errors carry no code, only a message: name the usual causes
       const locked = /cannot lock/i.test(err.message);
+      const denied = /permission denied/i.test(err.message);
+      const hint = locked ? ' (another program has it open)' : denied ? ' (is this user in the dialout group?)' : '';
       return new SerialTransportError(
-        `cannot open serial device ${this.path}: ${err.message}${locked ? ' (another program has it open)' : ''}`,
-        locked ? 'EBUSY' : ((err as NodeJS.ErrnoException).code ?? 'EOPEN'),
+        `cannot open serial device ${this.path}: ${err.message}${hint}`,
+        locked ? 'EBUSY' : denied ? 'EACCES' : ((err as NodeJS.ErrnoException).code ?? 'EOPEN'),
         this.path,
       );
     }
