@@ -65,6 +65,7 @@ export class FramesDecoder implements Decoder {
     });
   }
 
+  /** Decode the whole frames in the carried tail + chunk; a torn last frame is carried over. */
   push(chunk: Uint8Array, hostMs: number): DecodeResult {
     let buf = chunk;
     if (this.tail.length > 0) {
@@ -79,6 +80,7 @@ export class FramesDecoder implements Decoder {
     return out;
   }
 
+  /** End of input: a torn frame left over is counted bad; held incidents are reported. */
   flush(hostMs: number): DecodeResult {
     const out: DecodeResult = { blocks: [], incidents: [] };
     if (this.tail.length > 0) {

@@ -131,6 +131,7 @@ export class LinesDecoder implements Decoder {
     return this.layout ? this.layout.columns : null;
   }
 
+  /** Decode one chunk; a line torn at its end is carried over to the next push. */
   push(chunk: Uint8Array, hostMs: number): DecodeResult {
     this.begin(hostMs, chunk.length);
     this.chunk = chunk;
@@ -272,6 +273,7 @@ export class LinesDecoder implements Decoder {
     return i;
   }
 
+  /** End of input: the carried line (a last line without LF) is decoded; held incidents are reported. */
   flush(hostMs: number): DecodeResult {
     this.begin(hostMs, this.tailLen);
     this.flushing = true;
@@ -296,6 +298,7 @@ export class LinesDecoder implements Decoder {
 
   private end(): DecodeResult {
     this.finishBlock();
+    this.chunk = EMPTY; // hold no reference to the caller's buffer
     return this.out;
   }
 
