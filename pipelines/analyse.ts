@@ -31,8 +31,12 @@ export function analyse(opts: AnalyseOptions = {}): (source: Observable<WindowDa
           try {
             // the window marks usable samples with 1; the fit excludes nonzero mask entries
             const exclude = new Uint8Array(w.mask.length);
-            for (let i = 0; i < exclude.length; i++) exclude[i] = w.mask[i] ? 0 : 1;
-            r = analyseWindow({ index: w.index, t: w.t, y: w.y, mask: exclude, temp: w.temp, t_start_s: w.t_start_s, t_end_s: w.t_end_s, periodHint_s: w.periodHint_s }, opts).result;
+            const seedExclude = new Uint8Array(w.mask.length);
+            for (let i = 0; i < exclude.length; i++) {
+              exclude[i] = w.mask[i] ? 0 : 1;
+              seedExclude[i] = Number.isFinite(w.y[i]) ? 0 : 1;
+            }
+            r = analyseWindow({ index: w.index, t: w.t, y: w.y, mask: exclude, seedMask: seedExclude, temp: w.temp, t_start_s: w.t_start_s, t_end_s: w.t_end_s, periodHint_s: w.periodHint_s }, opts).result;
             if (r.status === 'ok' && r.period_s !== null) opts.tracker?.update(r.period_s);
           } catch (e) {
             r = emptyResult(w, `error: ${(e as Error).message}`.slice(0, 200), w.y.length);

@@ -1,6 +1,6 @@
 /**
  * The assembled analysis pipeline, the same for a live device, a file replay
- * and the simulator: clean → (gap events) → condition (decimation chosen from
+ * and the simulator: fill holes → clean → (gap events) → condition (decimation chosen from
  * the first period estimate) → sliding windows in periods → analyse.
  */
 import { Observable, share } from 'rxjs';
@@ -10,6 +10,7 @@ import type { WindowResult } from '../src/config/results.js';
 import type { AnalysisConfig } from '../src/config/station.js';
 import type { DeriveContext } from '../src/analysis/derive.js';
 import { clean } from './clean.js';
+import { fillHoles } from './fill-holes.js';
 import { gapEvents } from './gap-events.js';
 import { adaptiveCondition } from './adaptive-condition.js';
 import { slidingWindows } from './window.js';
@@ -39,6 +40,7 @@ export function analysisPipeline(blocks$: Observable<AngleBlock>, opts: Pipeline
   const a = opts.analysis;
   const tracker = new PeriodTracker(a.period_guess_s);
   const cleaned$ = blocks$.pipe(
+    fillHoles(),
     clean({ hampelHalfWidth: a.hampel_half_width, hampelThreshold: a.hampel_threshold, hampelMinScale_rad: opts.quantum_rad }),
     gapEvents((inc) => opts.onIncident?.(inc)),
     share(),

@@ -14,6 +14,12 @@ export interface WindowSamples {
   t: Float64Array;
   y: Float64Array;
   mask?: Uint8Array;
+  /**
+   * samples the FFT seed leaves out (default `mask`): saturated samples hold
+   * their clipped angle, which still carries the swing's sign and so the
+   * fundamental — the seed may use them where the fit must not
+   */
+  seedMask?: Uint8Array;
   temp?: Float64Array;
   t_start_s: number;
   t_end_s: number;
@@ -60,7 +66,8 @@ export function analyseWindow(w: WindowSamples, opts: WindowAnalysisOptions = {}
   const tMid = (w.t_start_s + w.t_end_s) / 2;
   let used = 0;
   for (let i = 0; i < w.y.length; i++) if (!(w.mask && w.mask[i])) used++;
-  const seed = periodSeed(w.t, w.y, { mask: w.mask, hint_s: w.periodHint_s, tMid });
+  if (used < 20) return { result: { ...emptyResult(w, 'too-few-samples', used), temp_C: meanFinite(w.temp) }, fit: null };
+  const seed = periodSeed(w.t, w.y, { mask: w.seedMask ?? w.mask, hint_s: w.periodHint_s, tMid });
   if (!seed.ok) return { result: { ...emptyResult(w, seed.reason ?? 'no-oscillation', used), temp_C: meanFinite(w.temp) }, fit: null };
   const fit = fitDampedSine(w.t, w.y, { mask: w.mask, seed, tMid, minPeriods: opts.minPeriods });
   const r = emptyResult(w, fit.status, fit.samples);

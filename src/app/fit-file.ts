@@ -43,11 +43,13 @@ export async function fitFile(path: string, station: Station): Promise<FileFit> 
   const rec = await readRecording(path, station);
   const n = rec.t.length;
   const mask = new Uint8Array(n);
+  const seedMask = new Uint8Array(n);
   let masked = 0;
   for (let i = 0; i < n; i++) {
     if (rec.flags[i] & (FLAG_SATURATED | FLAG_INVALID) || !Number.isFinite(rec.angle[i])) { mask[i] = 1; masked++; }
+    if (!Number.isFinite(rec.angle[i])) seedMask[i] = 1;
   }
-  const w = { index: 0, t: rec.t, y: rec.angle, mask, temp: rec.temp, t_start_s: n ? rec.t[0] : 0, t_end_s: n ? rec.t[n - 1] : 0 };
+  const w = { index: 0, t: rec.t, y: rec.angle, mask, seedMask, temp: rec.temp, t_start_s: n ? rec.t[0] : 0, t_end_s: n ? rec.t[n - 1] : 0 };
   const ctx = deriveContextFor(station);
   const { result: r } = n >= 2 ? analyseWindow(w, { derive: ctx }) : { result: null };
   const out: FileFit = {

@@ -8,6 +8,7 @@ import type { Station } from '../config/station.js';
 import { makeDecoder } from '../../drivers/decoder.js';
 import { makeConverter } from '../../drivers/sensor.js';
 import { replayFile } from '../../drivers/replay.js';
+import { HoleFiller } from '../analysis/hole-filler.js';
 
 export interface Recording {
   t: Float64Array;
@@ -49,10 +50,14 @@ export async function readRecording(path: string, station: Station): Promise<Rec
   const temp = new Grow<Float64Array>((n) => new Float64Array(n));
   const incidents: Incident[] = [];
   let sawTemp = false;
+  const holes = new HoleFiller();
   await replayFile(path, decoder, (r) => {
     incidents.push(...r.incidents);
     for (const raw of r.blocks) {
-      const b: AngleBlock = convert(raw);
+      const c: AngleBlock = convert(raw);
+      // lost lines leave holes: masked placeholders keep the grid uniform for the FFT seed
+      const h = holes.process(c.t, c.angle, c.flags, c.channels as Record<string, Float64Array | undefined>, c.n);
+      const b = { ...c, n: h.n, t: h.t, angle: h.y, flags: h.flags, channels: h.channels };
       t.push(b.t, b.n);
       a.push(b.angle, b.n);
       f.push(b.flags, b.n);

@@ -156,13 +156,6 @@ export function buildProgram(): Command {
     .addOption(dbOption())
     .action(lazy('report', 'reportCommand'));
 
-  p.command('serve')
-    .description('the local live dashboard')
-    .option('--host <host>', 'address to listen on', '127.0.0.1')
-    .option('--port <port>', 'TCP port', integerArg('--port'), 8177)
-    .addOption(dbOption())
-    .action(lazy('serve', 'serveCommand'));
-
   p.command('ports')
     .description('serial devices on this machine (prefer the /dev/serial/by-id paths)')
     .option('--json')
