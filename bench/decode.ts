@@ -72,6 +72,27 @@ async function run(path: string, decoder: Decoder): Promise<{ rate: number; cpuR
   return { rate: samples / s, cpuRate: samples / ((cpu.user + cpu.system) / 1e6), samples };
 }
 
+/** Sensor conversion alone for a split photodiode (erfinv per sample), on in-memory blocks. */
+function benchSplitPhotodiode(): number {
+  const conv = makeConverter({ kind: 'split-photodiode', lever_arm_m: 0.8, beam_radius_m: 1e-3, saturation: 0.98 });
+  const n = 4096;
+  const a = new Float64Array(n);
+  const b = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const s = 0.9 * Math.sin(i * 0.01);
+    a[i] = 1 + s;
+    b[i] = 1 - s;
+  }
+  const block = { n, t: new Float64Array(n), clock: 'device' as const, hostMs: 0, channels: { a, b } };
+  const blocks = 100;
+  const c0 = process.cpuUsage();
+  let check = 0;
+  for (let k = 0; k < blocks; k++) check += conv(block).angle[k];
+  const cpu = process.cpuUsage(c0);
+  if (!Number.isFinite(check)) throw new Error('bench: split-photodiode conversion gave NaN');
+  return (blocks * n) / ((cpu.user + cpu.system) / 1e6);
+}
+
 /** Write the temp files, time replay+decode+convert for each, print and return samples/s. */
 export async function benchDecode(): Promise<Record<string, number>> {
   const dir = mkdtempSync(join(tmpdir(), 'fibrewatch-bench-'));
@@ -94,6 +115,7 @@ export async function benchDecode(): Promise<Record<string, number>> {
       figures['lines_17digits_samples_per_cpu_s'] = b.cpuRate;
       figures['frames_1ch_samples_per_s'] = c.rate;
       figures['frames_1ch_samples_per_cpu_s'] = c.cpuRate;
+      figures['split_photodiode_convert_samples_per_cpu_s'] = benchSplitPhotodiode();
     }
     console.log(`decode + convert, ${N} samples each (t_s,angle_rad lines; 1-channel frames), replayed from a temp file:`);
     for (const [k, v] of Object.entries(figures)) console.log(`  ${k.padEnd(36)} ${(v / 1e6).toFixed(2)} M`);

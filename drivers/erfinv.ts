@@ -141,7 +141,7 @@ export function erfinv(x: number): number {
   }
   // Winitzki's approximation, a = 0.147
   const a = 0.147;
-  const ln = Math.log1p(-ax * ax);
+  const ln = ax > 0.5 ? Math.log((1 - ax) * (1 + ax)) : Math.log1p(-ax * ax); // ln(1 − x²) without the rounding of x² near 1
   const p = 2 / (Math.PI * a) + ln / 2;
   let y = Math.sqrt(Math.sqrt(p * p - ln / a) - p);
   const oneMinus = 1 - ax; // exact for ax ≥ 0.5 (Sterbenz); used above 0.8
@@ -151,7 +151,8 @@ export function erfinv(x: number): number {
     const u = f / (TWO_OVER_SQRT_PI * expMinusSquare(y));
     const step = u / (1 + y * u); // Halley
     y -= step;
-    if (Math.abs(step) <= 1e-17 * y) break;
+    // Halley's error shrinks as e³·(1 + y²)/3 or so: after a step below 1e-7·y what is left is far below an ulp
+    if (Math.abs(step) <= 1e-7 * y) break;
   }
   return x < 0 ? -y : y;
 }

@@ -148,7 +148,24 @@ export class BiquadCascade {
 
   /** Filter x[from..to) into y[from..to) (y may be x). */
   process(x: Float64Array, y: Float64Array, from = 0, to = x.length): void {
-    for (let i = from; i < to; i++) y[i] = this.step(x[i]);
+    // section by section over the whole range: the same arithmetic as `step`, in a tighter loop
+    const c = this.sections;
+    const st = this.s;
+    for (let o = 0, j = 0; o < c.length; o += BIQUAD_STRIDE, j += 2) {
+      const b0 = c[o], b1 = c[o + 1], b2 = c[o + 2], a1 = c[o + 3], a2 = c[o + 4];
+      let s1 = st[j];
+      let s2 = st[j + 1];
+      const src = o === 0 ? x : y;
+      for (let i = from; i < to; i++) {
+        const v = src[i];
+        const out = b0 * v + s1;
+        s1 = b1 * v - a1 * out + s2;
+        s2 = b2 * v - a2 * out;
+        y[i] = out;
+      }
+      st[j] = s1;
+      st[j + 1] = s2;
+    }
   }
 
   /** Zero the state (as if the input had always been 0). */

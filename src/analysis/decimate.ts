@@ -138,8 +138,8 @@ export class Decimator {
   /** Forget all state, as at the start of a run. */
   reset(): void {
     this.filter?.reset();
-    this.seg = 0;
     this.started = false;
+    this.seg = 0;
     this.lastGood = NaN;
     this.lastSat = this.lastSpike = this.lastInvalid = -Infinity;
     this.settleUntil = 0;
@@ -158,11 +158,16 @@ export class Decimator {
     const L = this.support;
     const gd = this.groupDelay_s;
     const filt = this.filter;
+    const len = to - from;
+    // pass 1, per sample: the filter input (bad samples held), restarts, and the flags of kept samples
+    const xin = filt ? this.scratch(len) : y;
+    const events: number[] = []; // pairs (relative index, 0 = reset | 1 = settle)
+    const startedAtEntry = this.started;
     for (let i = from; i < to; i++) {
       const f = flags[i];
       if (f & FLAG_AFTER_GAP) {
         // restart: nothing before the gap may leak into what follows
-        this.filter?.reset();
+        events.push(i - from, 0);
         this.seg = 0;
         this.started = false;
         this.lastSat = this.lastSpike = this.lastInvalid = -Infinity;
@@ -180,11 +185,11 @@ export class Decimator {
         this.lastGood = x;
         if (!this.started) {
           this.started = true;
-          filt?.settle(x);
+          events.push(i - from, 1);
           this.settleUntil = filt ? s + L : s;
         }
       }
-      const v = filt ? (this.started ? filt.step(x) : NaN) : y[i];
+      if (filt) xin[i - from] = x;
       if (s % M === 0) {
         let of_ = 0;
         if (s - this.lastSat < L) of_ |= FLAG_SATURATED;
@@ -195,13 +200,42 @@ export class Decimator {
           this.gapPending = false;
         }
         ot[n] = t[i] - gd;
-        oy[n] = v;
         of[n] = of_;
         oi[n] = i - from;
         n++;
       }
       this.seg = s + 1;
     }
+    if (!filt) {
+      for (let k = 0; k < n; k++) oy[k] = y[from + oi[k]];
+    } else {
+      // pass 2: filter the runs between restarts, in place in the scratch array
+      let started = startedAtEntry;
+      let pos = 0;
+      for (let e = 0; e <= events.length; e += 2) {
+        const at = e < events.length ? events[e] : len;
+        if (started) filt.process(xin, xin, pos, at);
+        else xin.fill(NaN, pos, at);
+        if (e === events.length) break;
+        if (events[e + 1] === 0) {
+          filt.reset();
+          started = false;
+        } else {
+          filt.settle(xin[at]);
+          started = true;
+        }
+        pos = at;
+      }
+      for (let k = 0; k < n; k++) oy[k] = xin[oi[k]];
+    }
     return { n, t: ot.slice(0, n), y: oy.slice(0, n), flags: of.slice(0, n), index: oi.slice(0, n) };
+  }
+
+  private buf = new Float64Array(0);
+
+  /** A reusable work array of at least n samples. */
+  private scratch(n: number): Float64Array {
+    if (this.buf.length < n) this.buf = new Float64Array(Math.max(n, 2 * this.buf.length));
+    return this.buf;
   }
 }

@@ -70,7 +70,7 @@ const inputSchema = z.strictObject({
     max_delay_s: pos().default(10),
     /** give up after this long without the device (absent: never) */
     give_up_s: pos().optional(),
-  }).default({ min_delay_s: 0.25, max_delay_s: 10 }),
+  }).prefault({}),
 });
 
 const sensorSchema = z.discriminatedUnion('kind', [
@@ -139,11 +139,11 @@ const alertsSchema = z.strictObject({
 export const stationSchema = z.strictObject({
   station: z.string('must be a string').min(1, 'must not be empty'),
   fibre: fibreSchema,
-  pendulum: pendulumSchema.default({}),
-  input: inputSchema.default({} as never),
+  pendulum: pendulumSchema.prefault({}),
+  input: inputSchema.prefault({}),
   sensor: sensorSchema.default({ kind: 'angle' }),
-  analysis: analysisSchema.default({} as never),
-  alerts: alertsSchema.default({} as never),
+  analysis: analysisSchema.prefault({}),
+  alerts: alertsSchema.prefault({}),
 });
 
 export type Station = z.output<typeof stationSchema>;
