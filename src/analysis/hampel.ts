@@ -139,9 +139,9 @@ export class HampelDetector {
   private mad(med: number): number {
     const s = this.sorted;
     const m = this.m;
-    // split: first index with s[i] >= med
-    let r = 0;
-    while (r < m && s[r] < med) r++;
+    // split: first index with s[i] >= med; it is at or just below the middle
+    let r = m >> 1;
+    while (r > 0 && s[r - 1] >= med) r--;
     let l = r - 1;
     const want = m >> 1; // index of the upper middle deviation
     let prev = 0;
