@@ -32,6 +32,11 @@ export interface Decoder {
   push(chunk: Uint8Array, hostMs: number): DecodeResult;
   /** End of input: decode what is left in the tail and report pending incidents. */
   flush(hostMs: number): DecodeResult;
+  /**
+   * The byte stream was broken (device lost and back): forget the carried
+   * partial record, so its head is never joined to bytes from after the break.
+   */
+  resync(): void;
   readonly stats: DecoderStats;
 }
 

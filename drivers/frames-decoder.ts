@@ -65,6 +65,11 @@ export class FramesDecoder implements Decoder {
     });
   }
 
+  /** Drop the carried partial frame; decoding resynchronises on the next sync pair. */
+  resync(): void {
+    this.tail = new Uint8Array(0);
+  }
+
   /** Decode the whole frames in the carried tail + chunk; a torn last frame is carried over. */
   push(chunk: Uint8Array, hostMs: number): DecodeResult {
     let buf = chunk;

@@ -273,6 +273,16 @@ export class LinesDecoder implements Decoder {
     return i;
   }
 
+  /**
+   * Drop the carried partial line. The first line after the break is kept:
+   * a torn one fails to parse and is counted as bad input like any other.
+   */
+  resync(): void {
+    if (this.tailLen > 0 || this.tailOver) this.stats.badRecords++;
+    this.tailLen = 0;
+    this.tailOver = false;
+  }
+
   /** End of input: the carried line (a last line without LF) is decoded; held incidents are reported. */
   flush(hostMs: number): DecodeResult {
     this.begin(hostMs, this.tailLen);

@@ -6,7 +6,7 @@
 import type { AngleBlock } from '../config/block.js';
 import type { Incident } from '../config/events.js';
 import type { Station } from '../config/station.js';
-import { makeDecoder, type Decoder, type DecodeResult } from '../../drivers/decoder.js';
+import { makeDecoder, type Decoder, type DecodeResult, type MakeDecoderOptions } from '../../drivers/decoder.js';
 import { makeConverter } from '../../drivers/sensor.js';
 import type { RunSession } from './run-session.js';
 
@@ -21,7 +21,7 @@ export class Acquisition {
   readonly decoder: Decoder;
   private readonly convert: (b: import('../config/block.js').RawBlock) => AngleBlock;
 
-  constructor(station: Station, private readonly session: RunSession, private readonly sink?: BlockSink, opts?: { hostClock?: () => number }) {
+  constructor(station: Station, private readonly session: RunSession, private readonly sink?: BlockSink, opts?: MakeDecoderOptions) {
     this.decoder = makeDecoder(station, opts);
     this.convert = makeConverter(station.sensor);
   }
@@ -29,6 +29,11 @@ export class Acquisition {
   /** Bytes as they arrived from the line, with the host time of arrival. */
   bytes(chunk: Uint8Array, hostMs: number): void {
     this.handle(this.decoder.push(chunk, hostMs));
+  }
+
+  /** The byte stream broke (device lost and back): drop the decoder's partial record. */
+  resync(): void {
+    this.decoder.resync();
   }
 
   /** An incident from the transport (reconnect, gap …). */

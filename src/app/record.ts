@@ -4,6 +4,7 @@
  * the run open and reports `reconnect` and `gap`); a run left `recording` by a
  * crash is marked `interrupted` at start.
  */
+import { existsSync } from 'node:fs';
 import type Database from 'better-sqlite3';
 import type { Station } from '../config/station.js';
 import { SerialSupervisor, SerialTransportError } from '../../drivers/serial-transport.js';
@@ -32,8 +33,12 @@ export async function recordRun(db: Database.Database, station: Station, opts: R
   const left = markInterrupted(db, station.station);
   if (left.length) log(`run${left.length > 1 ? 's' : ''} ${left.join(', ')} had been left recording (crash or power loss): marked interrupted`);
 
+  if (!opts.waitForDevice && !existsSync(opts.device)) {
+    throw new RuntimeError(`${opts.device}: no such device (is it plugged in? see \`fibrewatch ports\`; --wait-for-device keeps retrying)`);
+  }
   const session = new RunSession(db, station, { source: opts.source ?? 'device', sourcePath: opts.device, onEvent: opts.onEvent });
-  const acq = new Acquisition(station, session, opts.makeSink?.(session), {});
+  // the port opens while the device may be mid-line: the first line is dropped as torn
+  const acq = new Acquisition(station, session, opts.makeSink?.(session), { midStream: true });
   const sup = new SerialSupervisor({
     path: opts.device,
     baud: station.input.baud,
@@ -45,7 +50,11 @@ export async function recordRun(db: Database.Database, station: Station, opts: R
   sup.on('data', (chunk, hostMs) => acq.bytes(chunk, hostMs));
   sup.on('incident', (inc) => acq.incident(inc));
   sup.on('down', (d) => log(`device ${opts.device} lost (${d.reason}); keeping the run open and retrying`));
-  sup.on('up', (u) => { if (!u.first) log(`device ${opts.device} back after ${u.downFor_s.toFixed(1)} s`); });
+  sup.on('up', (u) => {
+    if (u.first) return;
+    acq.resync();
+    log(`device ${opts.device} back after ${u.downFor_s.toFixed(1)} s`);
+  });
 
   let stopping: (why: string) => void = () => {};
   const stopped = new Promise<string>((res) => { stopping = res; });
@@ -54,6 +63,7 @@ export async function recordRun(db: Database.Database, station: Station, opts: R
   try {
     await sup.start();
   } catch (e) {
+    await acq.end();
     session.close('interrupted');
     if (e instanceof SerialTransportError) throw new RuntimeError(e.message);
     throw e;
