@@ -8,8 +8,10 @@
  *   erf(√2·x/w), so x = (w/√2)·erf⁻¹(s); optical lever θ = ½·atan(x/D).
  * - lateral-effect PSD of half-length h: x = h·(a−b)/(a+b) or x_m directly;
  *   θ = ½·atan(x/D).
- * Saturated samples (off the split / off the detector) get FLAG_SATURATED
- * and a NaN angle: masked, never fitted.
+ * Saturated samples (off the split / off the detector) get FLAG_SATURATED:
+ * masked, never fitted. Their angle is the limit of the linear range with the
+ * swing's sign (NaN when the spot is lost altogether): the FFT period seed may
+ * use that sign where most of each swing is off the split.
  */
 import { FLAG_INVALID, FLAG_SATURATED, type AngleBlock, type RawBlock, type ValueRole } from '../src/config/block.js';
 import type { SensorConfig } from '../src/config/station.js';
@@ -60,6 +62,7 @@ export function makeConverter(sensor: SensorConfig): (b: RawBlock) => AngleBlock
       const xScale = sensor.beam_radius_m / Math.SQRT2;
       const D = sensor.lever_arm_m;
       const sat = sensor.saturation;
+      const clip = 0.5 * Math.atan((xScale * erfinv(sat)) / D);
       return (b) => {
         const A = need(b, 'a', 'split-photodiode');
         const B = need(b, 'b', 'split-photodiode');
@@ -77,7 +80,7 @@ export function makeConverter(sensor: SensorConfig): (b: RawBlock) => AngleBlock
           }
           const s = (a - bb) / sum;
           if (!(sum > 0) || !(Math.abs(s) < sat)) {
-            angle[i] = NaN;
+            angle[i] = sum > 0 ? Math.sign(s) * clip : NaN;
             flags[i] = FLAG_SATURATED;
             continue;
           }
@@ -90,6 +93,7 @@ export function makeConverter(sensor: SensorConfig): (b: RawBlock) => AngleBlock
       const h = sensor.half_length_m;
       const D = sensor.lever_arm_m;
       const xMax = sensor.saturation * h;
+      const clip = 0.5 * Math.atan(xMax / D);
       return (b) => {
         const X = b.channels.x_m;
         const A = X ? null : need(b, 'a', 'psd');
@@ -108,7 +112,7 @@ export function makeConverter(sensor: SensorConfig): (b: RawBlock) => AngleBlock
             angle[i] = NaN;
             flags[i] = FLAG_INVALID;
           } else if (!(Math.abs(x) < xMax)) {
-            angle[i] = NaN;
+            angle[i] = Math.sign(x) * clip;
             flags[i] = FLAG_SATURATED;
           } else angle[i] = 0.5 * Math.atan(x / D);
         }

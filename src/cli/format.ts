@@ -6,7 +6,10 @@ export function withSigma(v: number | null | undefined, s: number | null | undef
   const u = unit ? ` ${unit}` : '';
   if (s === null || s === undefined || !Number.isFinite(s) || s <= 0) return `${fmt(v)}${u}`;
   const e = Math.floor(Math.log10(s)) - 1;
-  if (Math.abs(e) > 6 || Math.abs(v) >= 1e6) {
+  const a = Math.abs(v);
+  // fixed decimals while the value is of ordinary size; exponent form for tiny or huge values
+  const fixed = (a === 0 || (a >= 1e-3 && a < 1e6)) && -e <= 12 && e <= 6;
+  if (!fixed) {
     const ev = v === 0 ? 0 : Math.floor(Math.log10(Math.abs(v)));
     const k = 10 ** ev;
     const digits = Math.max(0, ev - e);

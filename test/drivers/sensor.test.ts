@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import stdlibErf from '@stdlib/math-base-special-erf';
+import stdlibErfinv from '@stdlib/math-base-special-erfinv';
 import { FLAG_INVALID, FLAG_SATURATED, type RawBlock, type ValueRole } from '../../src/config/block.js';
 import { makeConverter } from '../../drivers/sensor.js';
 
@@ -71,7 +72,9 @@ describe('makeConverter: split photodiode', () => {
       const s = stdlibErf((Math.SQRT2 * x) / w);
       if (Math.abs(s) >= 0.98) {
         expect(out.flags[i]).toBe(FLAG_SATURATED);
-        expect(out.angle[i]).toBeNaN();
+        // clipped to the edge of the linear range, with the swing's sign
+        const edge = 0.5 * Math.atan(((w / Math.SQRT2) * stdlibErfinv(0.98)) / D);
+        expect(out.angle[i]).toBeCloseTo(Math.sign(x) * edge, 15);
       } else {
         expect(out.flags[i]).toBe(0);
         expect(out.angle[i]).toBeCloseTo(0.5 * Math.atan(x / D), 15);
@@ -109,7 +112,8 @@ describe('makeConverter: split photodiode', () => {
     const out = makeConverter(sensor)(block({ a: [1, 0.995, 0, 0, 1], b: [1, 0.005, 0, -1, NaN] }));
     expect(Array.from(out.flags)).toEqual([0, FLAG_SATURATED, FLAG_SATURATED, FLAG_SATURATED, FLAG_INVALID]);
     expect(out.angle[0]).toBe(0);
-    expect(Array.from(out.angle).slice(1).every(Number.isNaN)).toBe(true);
+    expect(out.angle[1]).toBeGreaterThan(0); // off the split on the a side: clipped, positive
+    expect(Array.from(out.angle).slice(2).every(Number.isNaN)).toBe(true); // dark: no sign to keep
   });
 });
 
