@@ -12,5 +12,6 @@ export async function demoCommand(opts: { out: string; hours: number; inProcess?
   const story = [...kinds].map(([k, s]) => `${k} (${[...s].join(', ')})`).join('; ');
   process.stdout.write(`\nalerts: ${story || 'none'}\n`);
   process.stdout.write(`path: ${r.mode === 'pty' ? 'pseudo-terminal + serialport' : 'in-process decoder (no pseudo-terminal)'}; took ${((Date.now() - t0) / 1000).toFixed(0)} s\n`);
-  process.stdout.write(`store:  ${r.dbPath}\nreport: ${r.reportPath}\nnext:   npx fibrewatch windows ${r.summary.run} --db ${r.dbPath} | npx fibrewatch events ${r.summary.run} --db ${r.dbPath}\n`);
+  process.stdout.write(`store:  ${r.dbPath}\nreport: ${r.reportPath}\n`);
+  process.stdout.write(`look closer:\n  npx fibrewatch windows ${r.summary.run} --db ${r.dbPath}\n  npx fibrewatch events ${r.summary.run} --db ${r.dbPath}\n`);
 }
