@@ -5,7 +5,9 @@ import { renderSummary } from './show.js';
 export async function demoCommand(opts: { out: string; hours: number; inProcess?: boolean; seed: number }): Promise<void> {
   const t0 = Date.now();
   process.stderr.write('fibrewatch demo — a virtual torsion balance (invented data). Real balances: mind the laser, the suspended mass and vacuum glass; see README "Safety".\n');
-  const r = await runDemo({ out: opts.out, hours: opts.hours, inProcess: opts.inProcess, seed: opts.seed });
+  // tests shorten the wall-clock budget (default about a minute)
+  const wall = Number(process.env.FIBREWATCH_DEMO_WALL_S) || undefined;
+  const r = await runDemo({ out: opts.out, hours: opts.hours, inProcess: opts.inProcess, seed: opts.seed, wall_s: wall });
   process.stdout.write('\n' + renderSummary(r.summary));
   const kinds = new Map<string, Set<string>>();
   for (const a of r.alerts) (kinds.get(a.kind) ?? kinds.set(a.kind, new Set()).get(a.kind)!).add(a.state!);

@@ -1,0 +1,44 @@
+/**
+ * `fibrewatch demo` as a user runs it: the simulator in its own process
+ * writing into a socat pty, `record`'s code path reading it through
+ * serialport, analysis and alerts into a fresh store, and a report.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { runCliAsync, runCli } from '../helpers/cli.js';
+
+let dir: string;
+beforeAll(() => {
+  dir = mkdtempSync(join(tmpdir(), 'fw-demo-'));
+});
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+describe('demo', () => {
+  it('runs the story through the pseudo-terminal and prints period, Q, κ, G, the equilibrium rate and the alerts', async () => {
+    const out = join(dir, 'out');
+    const r = await runCliAsync(['demo', '--out', out], { env: { FIBREWATCH_DEMO_WALL_S: '20' } });
+    expect(r.status, r.stderr).toBe(0);
+    expect(r.stdout).toMatch(/path: pseudo-terminal \+ serialport/);
+    for (const label of ['period', 'Q', 'κ', 'G', 'equilibrium']) expect(r.stdout).toMatch(new RegExp(`^\\s+${label}\\s`, 'm'));
+    // the story raises and clears each drift alert at least once
+    expect(r.stdout).toMatch(/equilibrium-drift \([^)]*raised[^)]*cleared/);
+    expect(r.stdout).toMatch(/period-drift \([^)]*raised[^)]*cleared/);
+    const db = join(out, 'fibrewatch.db');
+    expect(existsSync(db)).toBe(true);
+    const html = readFileSync(join(out, 'report.html'), 'utf8');
+    expect(html).toContain('<svg');
+    expect(html).not.toMatch(/<(script|link)[^>]+(src|href)="https?:/);
+
+    // the store answers the query commands
+    const show = JSON.parse(runCli(['show', '1', '--db', db, '--json']).stdout);
+    expect(show.samples).toBe(12 * 3600 * 10);
+    // the scenario's fibre: κ = πGd⁴/(32L) with G = 161 GPa (tungsten, materials table), d = 25 µm, L = 0.4 m
+    const kappa = (Math.PI * 161e9 * 2.5e-5 ** 4) / (32 * 0.4);
+    expect(Math.abs(show.kappa_Nm_per_rad - kappa) / kappa).toBeLessThan(1e-3);
+    expect(Math.abs(show.shear_modulus_Pa - 161e9) / 161e9).toBeLessThan(1e-3);
+    const events = JSON.parse(runCli(['events', '1', '--db', db, '--json']).stdout) as { kind: string; state: string }[];
+    expect(events.some((e) => e.kind === 'equilibrium-drift' && e.state === 'cleared')).toBe(true);
+  }, 180_000);
+});
