@@ -29,8 +29,14 @@ export interface WatchEquilibriumOptions {
   overlap?: number;
   /** one-sided significance in σ of the excess over the threshold (default 2) */
   significance_z?: number;
-  /** fewest windows in the rate horizon before judging (default 20) */
+  /**
+   * fewest windows the rate is judged on (default 12): when the rate horizon
+   * holds fewer (long periods: one window per period), it reaches back to the
+   * last min_points windows, at most max_rate_horizon_s
+   */
   min_points?: number;
+  /** longest the rate horizon is stretched to hold min_points windows, s (default 4·rate_horizon_s) */
+  max_rate_horizon_s?: number;
   /** least time between `updated` incidents, s (default 1800) */
   update_every_s?: number;
   /** least time between two refits of the creep model while raised, s (default 600) */
@@ -48,11 +54,14 @@ export function watchEquilibrium(opts: WatchEquilibriumOptions = {}) {
   const fitHorizon = (opts.horizon_h ?? 6) * 3600;
   const overlap = opts.overlap ?? 4;
   const z = opts.significance_z ?? 2;
-  const minPoints = opts.min_points ?? 20;
+  const minPoints = opts.min_points ?? 12;
+  const maxHorizon = opts.max_rate_horizon_s ?? 4 * horizon;
   if (!(thr > 0)) throw new RangeError(`watchEquilibrium: threshold_rad_per_hour must be > 0, got ${thrH}`);
   if (!(horizon > 0)) throw new RangeError(`watchEquilibrium: rate_horizon_s must be > 0, got ${horizon}`);
   const refitEvery = opts.creep_refit_s ?? 600;
-  const keep = Math.max(horizon, fitHorizon);
+  if (!(minPoints >= 3)) throw new RangeError(`watchEquilibrium: min_points must be ≥ 3, got ${minPoints}`);
+  if (!(maxHorizon >= horizon)) throw new RangeError(`watchEquilibrium: max_rate_horizon_s must be ≥ rate_horizon_s, got ${maxHorizon}`);
+  const keep = Math.max(maxHorizon, fitHorizon);
   return (source: Observable<WindowResult>) =>
     new Observable<Incident>((sub) => {
       const alert = createAlertState({
@@ -75,6 +84,8 @@ export function watchEquilibrium(opts: WatchEquilibriumOptions = {}) {
         if (head > 2048) { ts = ts.slice(head); ys = ys.slice(head); ss = ss.slice(head); head = 0; }
         let i0 = ts.length;
         while (i0 > head && ts[i0 - 1] >= t - horizon) i0--;
+        // a long period gives few windows per horizon: reach back to min_points windows (bounded)
+        if (ts.length - i0 < minPoints && ts.length - head >= minPoints && t - ts[ts.length - minPoints] <= maxHorizon) i0 = ts.length - minPoints;
         if (ts.length - i0 < minPoints || t - ts[i0] < 0.5 * horizon) return;
         const tr = robustTrend(ts.slice(i0), ys.slice(i0), { inflation: overlap });
         if (!tr) return;
@@ -88,7 +99,7 @@ export function watchEquilibrium(opts: WatchEquilibriumOptions = {}) {
           lastFitT = t;
           forecast = null;
           creep = undefined;
-          const onset = (alert.active ? alert.raisedAt : t) - horizon / 2;
+          const onset = (alert.active ? alert.raisedAt : t) - Math.max(horizon, t - ts[i0]) / 2;
           let j0 = head;
           while (j0 < ts.length && ts[j0] < Math.max(onset, t - fitHorizon)) j0++;
           if (ts.length - j0 >= 20 && t - ts[j0] >= 0.5 * horizon) {
