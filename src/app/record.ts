@@ -51,7 +51,10 @@ export async function recordRun(db: Database.Database, station: Station, opts: R
   sup.on('incident', (inc) => acq.incident(inc));
   sup.on('down', (d) => log(`device ${opts.device} lost (${d.reason}); keeping the run open and retrying`));
   sup.on('up', (u) => {
-    if (u.first) return;
+    if (u.first) {
+      if (opts.waitForDevice) log(`device ${opts.device} appeared and is open`);
+      return;
+    }
     acq.resync();
     log(`device ${opts.device} back after ${u.downFor_s.toFixed(1)} s`);
   });
@@ -68,7 +71,7 @@ export async function recordRun(db: Database.Database, station: Station, opts: R
     if (e instanceof SerialTransportError) throw new RuntimeError(e.message);
     throw e;
   }
-  log(`recording run ${session.runId} from ${opts.device} (Ctrl-C to stop)`);
+  log(`recording run ${session.runId} from ${opts.device}${sup.isUp ? '' : ' (waiting for the device)'} (Ctrl-C to stop)`);
 
   // commit at least once a second even when data pauses; checkpoint so the WAL stays small
   const tick = setInterval(() => session.flushIfDue(Date.now()), 200);

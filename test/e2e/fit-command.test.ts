@@ -63,6 +63,33 @@ describe('fit on encoder data of 1, 3 and 10 full turns (isochronism)', () => {
   });
 });
 
+describe('fit warns when the swing nears the fibre\'s elastic twist limit', () => {
+  it('prints the caution for ten turns on a thin music wire, not for one turn', async () => {
+    // music wire 0.025 in × 2.5 m: limit ≈ 15 turns (src/physics/twist.ts; 0.45 × tensile strength, common practice)
+    const fibre = { name: 'mw', material: 'music wire', diameter_m: 6.35e-4, length_m: 2.5 };
+    const I = 0.036;
+    const kappa = (Math.PI * 79.29e9 * 6.35e-4 ** 4) / (32 * 2.5); // handbook G for music wire (SMI Handbook via ODOP table)
+    const out: Record<number, string> = {};
+    for (const turns of [1, 10]) {
+      const sc = parseScenario({
+        name: `mw-${turns}`, duration_s: 400, sample_rate_hz: 10, inertia_kg_m2: I, kappa_Nm_per_rad: kappa, q: 500,
+        thermal_noise: false, initial: { amplitude_rad: 2 * Math.PI * turns, phase_rad: 0, equilibrium_rad: 0 },
+        sensor: { kind: 'encoder', counts_per_rev: 4096 }, output: { format: 'lines', columns: ['t_s', 'counts'] },
+      });
+      const f = join(dir, `mw-${turns}.txt`);
+      await runSimulator({ scenario: sc, out: f, speed: 0, seed: 1 });
+      const station = join(dir, 'mw-station.json');
+      writeFileSync(station, JSON.stringify({ station: 'mw', fibre, pendulum: { inertia_kg_m2: I }, input: { columns: ['t_s', 'counts'] }, sensor: { kind: 'encoder', counts_per_rev: 4096 } }));
+      const r = runCli(['fit', f, '--station', station]);
+      expect(r.status).toBe(0);
+      out[turns] = r.stderr;
+    }
+    expect(out[10]).toMatch(/CAUTION: twist of 10\.\d+ turns reaches \d+ % of this fibre's elastic limit/);
+    expect(out[10]).toMatch(/local codes and licensed practice/);
+    expect(out[1]).not.toMatch(/CAUTION/);
+  });
+});
+
 describe('fit on a split photodiode whose first swings saturate', () => {
   it('returns the right period and equilibrium from the unsaturated samples', async () => {
     const I = 2e-4, kappa = 8.773e-6, q = 300;

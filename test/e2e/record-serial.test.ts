@@ -171,6 +171,21 @@ describe('record over a pseudo-terminal', () => {
     expect(runs[1].status).toBe('complete');
   });
 
+  it('--wait-for-device keeps retrying until the device appears, then records', async () => {
+    const db = join(dir, 'store.db');
+    const devicePath = join(dir, 'dev');
+    const rec = startCli(['record', '--station', station(devicePath), '--db', db, '--wait-for-device']);
+    await new Promise((r) => setTimeout(r, 1500));
+    expect(rec.child.exitCode).toBeNull(); // still waiting, not failed
+    pty = await startPtyPair(dir);
+    await rec.waitForStderr('appeared and is open');
+    expect((await writerProcess(pty.feedPath, { bytes: Buffer.from('\n') }).done).code).toBe(0);
+    expect((await writerProcess(pty.feedPath, { count: 2000 }).done).code).toBe(0);
+    await waitFor(() => samplesIn(db) >= 2000, 'samples after the device appeared', 20_000, 100);
+    rec.child.kill('SIGINT');
+    expect((await rec.exited).code).toBe(0);
+  });
+
   it('refuses a wrong station file with exit 2 naming the field', () => {
     const p = join(dir, 'bad.json');
     writeFileSync(p, JSON.stringify({ station: 'x', fibre: { name: 'f', diameter_m: -1 }, input: { device: '/dev/null' } }));
