@@ -380,8 +380,15 @@ export class LinesDecoder implements Decoder {
     const lineInPush = this.lineInPush++;
     if (e > s && buf[e - 1] === 13) e--;
     if (this.dropFirst) {
+      // opened mid-stream: the first line is usually the tail of one; a comment
+      // cannot be misread as data, anything else is dropped quietly (expected,
+      // so no bad-input incident), counted in stats
       this.dropFirst = false;
-      this.bad(buf, s, e, 'partial line at start of stream');
+      if (e > s && buf[s] === 35) {
+        this.comment(buf, s, e);
+        return;
+      }
+      if (e > s) this.stats.badRecords++;
       return;
     }
     if (e - s > this.maxLine) {

@@ -166,6 +166,11 @@ export function buildProgram(): Command {
 
 /** Run the CLI; maps errors to CONTRACT.md's exit statuses. */
 export async function main(argv: string[]): Promise<void> {
+  // output piped into `head` and closed early is not an error
+  process.stdout.on('error', (e: NodeJS.ErrnoException) => {
+    if (e.code === 'EPIPE') process.exit(0);
+    throw e;
+  });
   const program = buildProgram();
   program.exitOverride();
   program.configureOutput({ writeErr: (s) => process.stderr.write(s) });

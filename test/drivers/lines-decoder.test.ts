@@ -284,7 +284,16 @@ describe('LinesDecoder', () => {
     const d = new LinesDecoder({ ...opts, midStream: true });
     const c = run(d, [enc('.25,3\n1,1\n2,2\n')]);
     expect(c.t).toEqual([1, 2]);
-    expect(c.incidents[0].data!.reason).toBe('partial line at start of stream');
+    // expected on every start, so counted but not reported as bad input
+    expect(c.incidents.length).toBe(0);
+    expect(d.stats.badRecords).toBe(1);
+  });
+
+  it('keeps a comment as the first line of a mid-stream start', () => {
+    const d = new LinesDecoder({ midStream: true, separator: ',' });
+    const c = run(d, [enc('# columns: t_s,angle_rad\n1,1\n2,2\n')]);
+    expect(c.t).toEqual([1, 2]);
+    expect(d.stats.badRecords).toBe(0);
   });
 
   it('caps blocks at blockCap samples', () => {
