@@ -21,12 +21,15 @@ export function renderReport(db: Database.Database, runId: number): string {
   const h = (x: number) => x / 3600;
   const tx = ws.map((w) => h(w.t_mid_s));
   const alertMarks = evs.filter((e) => e.state === 'raised').map((e) => ({ x: h(e.t_s), label: `${e.kind} raised: ${e.message}` }));
-  const ppm = s.period_s ? ws.map((w) => ((w.period_s! - s.period_s!) / s.period_s!) * 1e6) : [];
+  // deviations from the run's median period: a step shows as a step, not as an offset of everything
+  const sorted = ws.map((w) => w.period_s!).sort((a, b) => a - b);
+  const ref = sorted.length ? sorted[sorted.length >> 1] : null;
+  const ppm = ref ? ws.map((w) => ((w.period_s! - ref) / ref) * 1e6) : [];
   const plots = [
-    plotSvg([{ x: tx, y: ppm, sigma: ws.map((w) => (w.period_sigma_s! / (s.period_s ?? 1)) * 1e6), label: 'period − mean', points: true }],
-      { title: `Period (mean ${withSigma(s.period_s, s.period_sigma_s, 's')})`, xLabel: 'time since start (h)', yLabel: 'ppm', markers: alertMarks }),
+    plotSvg([{ x: tx, y: ppm, sigma: ws.map((w) => (w.period_sigma_s! / (ref ?? 1)) * 1e6), label: 'period − median', points: true }],
+      { title: `Period (median ${ref?.toPrecision(8) ?? '—'} s; run mean ${withSigma(s.period_s, s.period_sigma_s, 's')})`, xLabel: 'time since start (h)', yLabel: 'ppm', markers: alertMarks, robust: true }),
     plotSvg([{ x: tx, y: ws.map((w) => w.equilibrium_rad! * 1e6), sigma: ws.map((w) => w.equilibrium_sigma_rad! * 1e6), label: 'equilibrium', points: true }],
-      { title: 'Equilibrium', xLabel: 'time since start (h)', yLabel: 'µrad', markers: alertMarks }),
+      { title: 'Equilibrium', xLabel: 'time since start (h)', yLabel: 'µrad', markers: alertMarks, robust: true }),
     plotSvg([{ x: tx, y: ws.map((w) => w.amplitude_rad! * 1e3), label: 'amplitude' }],
       { title: 'Amplitude', xLabel: 'time since start (h)', yLabel: 'mrad' }),
   ];

@@ -16,6 +16,8 @@ export interface PlotOptions {
   yLabel: string;
   width?: number;
   height?: number;
+  /** scale y to the 1st–99th percentile so a few wild windows cannot flatten the rest (they are drawn at the edge) */
+  robust?: boolean;
   /** vertical markers (e.g. alerts), x in the same unit as the series */
   markers?: { x: number; label: string; colour?: string }[];
 }
@@ -55,6 +57,17 @@ export function plotSvg(series: Series[], o: PlotOptions): string {
   }
   const parts: string[] = [`<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 ${W} ${H}" width="${W}" height="${H}" role="img" aria-label="${esc(o.title)}">`];
   parts.push(`<text x="${L}" y="18" font-size="13" font-weight="600">${esc(o.title)}</text>`);
+  if (o.robust) {
+    const ys: number[] = [];
+    for (const s of series) for (let i = 0; i < s.y.length; i++) if (Number.isFinite(s.y[i])) ys.push(s.y[i]);
+    ys.sort((a, b) => a - b);
+    if (ys.length > 20) {
+      const lo = ys[Math.floor(0.01 * (ys.length - 1))], hi = ys[Math.ceil(0.99 * (ys.length - 1))];
+      const pad = (hi - lo) * 0.5 || Math.abs(hi) * 1e-6 || 1e-9;
+      y0 = Math.max(y0, lo - pad);
+      y1 = Math.min(y1, hi + pad);
+    }
+  }
   if (!Number.isFinite(x0)) {
     parts.push(`<text x="${W / 2}" y="${H / 2}" text-anchor="middle" fill="#777">no data</text></svg>`);
     return parts.join('');
@@ -63,7 +76,7 @@ export function plotSvg(series: Series[], o: PlotOptions): string {
   if (y1 === y0) { const d = Math.abs(y0) * 1e-6 || 1e-9; y0 -= d; y1 += d; }
   const pad = (y1 - y0) * 0.05; y0 -= pad; y1 += pad;
   const sx = (x: number) => L + ((x - x0) / (x1 - x0)) * (W - L - R);
-  const sy = (y: number) => H - B - ((y - y0) / (y1 - y0)) * (H - T - B);
+  const sy = (y: number) => H - B - ((Math.min(Math.max(y, y0), y1) - y0) / (y1 - y0)) * (H - T - B);
   parts.push(`<rect x="${L}" y="${T}" width="${W - L - R}" height="${H - T - B}" fill="none" stroke="#bbb"/>`);
   for (const v of ticks(x0, x1)) parts.push(`<line x1="${sx(v)}" x2="${sx(v)}" y1="${H - B}" y2="${H - B + 4}" stroke="#555"/><text x="${sx(v)}" y="${H - B + 16}" font-size="10" text-anchor="middle">${tickLabel(v)}</text>`);
   for (const v of ticks(y0, y1)) parts.push(`<line x1="${L - 4}" x2="${W - R}" y1="${sy(v)}" y2="${sy(v)}" stroke="#eee"/><text x="${L - 6}" y="${sy(v) + 3}" font-size="10" text-anchor="end">${tickLabel(v)}</text>`);
