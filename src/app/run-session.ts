@@ -57,6 +57,7 @@ export class RunSession {
   private readonly raw: ValueRole[];
   private closed = false;
   private readonly windowBuffer: WindowResult[] = [];
+  private lastSideFlushMs = 0;
   private lastGap: { t_s: number; duration_s: number; event: StoredEvent } | undefined;
 
   constructor(private readonly db: Database.Database, private readonly station: Station, private readonly opts: RunSessionOptions) {
@@ -154,7 +155,9 @@ export class RunSession {
 
   /** Commit if the last commit is older than the cadence. */
   flushIfDue(nowMs: number): void {
-    if (this.writer.flushIfDue(nowMs)) this.flushSide();
+    // events and windows commit on the same cadence even while no samples arrive (a no-data alert)
+    const sideDue = (this.pendingEvents.length > 0 || this.windowBuffer.length > 0) && nowMs - this.lastSideFlushMs >= (this.opts.maxLatencyMs ?? 500);
+    if (this.writer.flushIfDue(nowMs) || sideDue) this.flushSide(nowMs);
   }
 
   /** Commit everything buffered now. */
@@ -163,7 +166,8 @@ export class RunSession {
     this.flushSide();
   }
 
-  private flushSide(): void {
+  private flushSide(nowMs = Date.now()): void {
+    this.lastSideFlushMs = nowMs;
     if (this.pendingEvents.length) insertEvents(this.db, this.runId, this.pendingEvents.splice(0));
     if (this.windowBuffer.length) insertWindows(this.db, this.runId, this.windowBuffer.splice(0));
   }
