@@ -40,6 +40,19 @@ describe('watchEquilibrium', () => {
     expect((last.data as { creep: { forecast_reliable: boolean } }).creep.forecast_reliable).toBe(true);
   });
 
+  it('a long period (429 s: 8 windows an hour) still gets judged: the horizon reaches back to min_points windows', async () => {
+    const onset = 8 * 3600 + 321;
+    const tc = 12 * 3600;
+    const creep = { t0_s: onset, a_rad: 2 * THR * tc, t_c_s: tc };
+    const ws = simulateWindowSeries({ seed: 7, hours: 14, period_s: 429, eq_sigma_rad: 5e-9, creep });
+    const raised = (await run(ws)).filter((i) => i.state === 'raised');
+    expect(raised).toHaveLength(1);
+    expect(raised[0].t! - onset).toBeGreaterThan(0);
+    expect(raised[0].t! - onset).toBeLessThan(3 * 3600);
+    // the same without the creep: judged, and quiet
+    expect(await run(simulateWindowSeries({ seed: 8, hours: 48, period_s: 429, eq_sigma_rad: 5e-9, temp_swing_K: 2 }))).toEqual([]);
+  });
+
   it('clears with hysteresis once a ramp stops, raising only once', async () => {
     const ws = simulateWindowSeries({ seed: 3, hours: 12, ramp: { t0_s: 3 * 3600, t1_s: 6 * 3600, rate_rad_per_s: 3 * THR } });
     const inc = await run(ws);
