@@ -3,16 +3,17 @@
  * summary table. Figures are measured on this machine each time; nothing is
  * hard-coded. Pass names to run a subset: `npm run bench -- fit store`.
  */
-type Bench = { name: string; load: () => Promise<() => Promise<object>> };
+type Bench = { name: string; file: string; fn: string };
 
+// loaded by name at run time, so one bench file being edited never breaks the build of the others
 const BENCHES: Bench[] = [
-  { name: 'decode', load: async () => (await import('./decode.js')).benchDecode },
-  { name: 'store', load: async () => (await import('./store.js')).benchStore },
-  { name: 'ingest', load: async () => (await import('./ingest.js')).benchIngest },
-  { name: 'fit', load: async () => (await import('./fit.js')).benchFit },
-  { name: 'condition', load: async () => (await import('./condition.js')).benchCondition },
-  { name: 'import', load: async () => (await import('./import.js')).benchImport },
-  { name: 'watch', load: async () => (await import('./watch.js')).benchWatch },
+  { name: 'decode', file: './decode.js', fn: 'benchDecode' },
+  { name: 'store', file: './store.js', fn: 'benchStore' },
+  { name: 'ingest', file: './ingest.js', fn: 'benchIngest' },
+  { name: 'fit', file: './fit.js', fn: 'benchFit' },
+  { name: 'condition', file: './condition.js', fn: 'benchCondition' },
+  { name: 'import', file: './import.js', fn: 'benchImport' },
+  { name: 'watch', file: './watch.js', fn: 'benchWatch' },
 ];
 
 async function main(): Promise<void> {
@@ -22,7 +23,8 @@ async function main(): Promise<void> {
     if (want.length && !want.includes(b.name)) continue;
     process.stdout.write(`\n=== ${b.name} ===\n`);
     try {
-      const figures = await (await b.load())();
+      const mod = (await import(b.file)) as Record<string, () => Promise<object>>;
+      const figures = await mod[b.fn]();
       for (const [k, v] of Object.entries(figures)) if (typeof v === 'number') all.push([b.name, k, v]);
     } catch (e) {
       process.stdout.write(`bench ${b.name} failed: ${(e as Error).stack ?? e}\n`);
