@@ -36,6 +36,7 @@ export interface CommandSinkOptions {
 /** A command sink with its counters. */
 export interface CommandSink extends AlertSink {
   stats(): CommandStats;
+  /** stop taking alerts and finish the queue; gives up once graceMs (default 5000) pass with no run finishing, or after 10 × graceMs */
   close(graceMs?: number): Promise<CommandStats>;
 }
 
@@ -114,9 +115,22 @@ export function createCommandSink(cfg: CommandConfig, opts: CommandSinkOptions =
     stats: () => ({ ...st, pending: q.length }),
     async close(graceMs = 5000) {
       closing = true;
-      const timer = setTimeout(() => { stopped = true; current?.kill('SIGKILL'); }, graceMs);
+      // the grace bounds a stuck queue, not a busy one: it restarts whenever a run finishes (an import
+      // hands over its alerts all at once), up to 10 × graceMs in all
+      const stop = () => { stopped = true; current?.kill('SIGKILL'); };
+      const hard = setTimeout(stop, 10 * graceMs);
+      let timer = setTimeout(stop, graceMs);
+      let done = st.ran + st.failed;
+      const watch = setInterval(() => {
+        if (st.ran + st.failed === done) return;
+        done = st.ran + st.failed;
+        clearTimeout(timer);
+        timer = setTimeout(stop, graceMs);
+      }, Math.max(10, Math.min(100, graceMs / 10)));
       await loop;
       clearTimeout(timer);
+      clearTimeout(hard);
+      clearInterval(watch);
       stopped = true;
       if (q.length > 0) report(`alert command ${name}: closing with ${q.length} alert(s) not run`);
       return { ...st, pending: q.length };

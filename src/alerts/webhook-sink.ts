@@ -49,7 +49,7 @@ export interface WebhookSinkOptions {
 /** A webhook sink with its counters. */
 export interface WebhookSink extends AlertSink {
   stats(): WebhookStats;
-  /** flush within graceMs (default 5000), then stop; resolves with the final counters */
+  /** stop taking alerts and flush; gives up once graceMs (default 5000) pass without a delivery, or after 10 × graceMs; resolves with the final counters */
   close(graceMs?: number): Promise<WebhookStats>;
 }
 
@@ -78,6 +78,7 @@ export function createWebhookSink(cfg: WebhookConfig, opts: WebhookSinkOptions =
   let inflight: AbortController | null = null;
   let wake: (() => void) | null = null;
   let loop: Promise<void> = Promise.resolve();
+  let onDelivered: (() => void) | null = null;
 
   const sleep = (ms: number) => new Promise<void>((resolve) => {
     const t = setTimeout(done, Math.max(0, Math.min(ms, deadline - Date.now())));
@@ -120,6 +121,7 @@ export function createWebhookSink(cfg: WebhookConfig, opts: WebhookSinkOptions =
             down = false;
             st.delivered++;
             droppedUnreported = 0;
+            onDelivered?.();
             break;
           }
           if (r === 'permanent') {
@@ -167,12 +169,22 @@ export function createWebhookSink(cfg: WebhookConfig, opts: WebhookSinkOptions =
     stats: () => ({ ...st, pending: size }),
     async close(graceMs = 5000) {
       closing = true;
-      deadline = Date.now() + graceMs;
+      // the grace bounds a receiver that is down, not a long queue to a live one: it restarts on every
+      // delivery, up to 10 × graceMs in all
+      const hardEnd = Date.now() + 10 * graceMs;
+      const stop = () => { stopped = true; inflight?.abort(new Error('closing')); wake?.(); };
+      let timer: NodeJS.Timeout;
+      const arm = () => {
+        deadline = Math.min(hardEnd, Date.now() + graceMs);
+        timer = setTimeout(stop, Math.max(0, deadline - Date.now()));
+      };
+      arm();
+      onDelivered = () => { clearTimeout(timer); arm(); };
       wake?.();
-      const timer = setTimeout(() => { stopped = true; inflight?.abort(new Error('closing')); wake?.(); }, graceMs);
       await loop;
       stopped = true;
-      clearTimeout(timer);
+      onDelivered = null;
+      clearTimeout(timer!);
       if (size > 0) report(`webhook ${cfg.url}: closing with ${size} alert(s) undelivered`);
       return { ...st, pending: size };
     },

@@ -47,4 +47,24 @@ describe('command sink', () => {
     expect(existsSync(marker)).toBe(false);
     expect(() => createCommandSink({ argv: [], timeout_s: 1 })).toThrow(/alerts\.command\.argv: must name the program/);
   });
+  it('close(grace) drains a busy queue that keeps finishing runs, but gives up on a stuck one after the grace', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'fw-cmd-'));
+    const out = join(dir, 'alerts.jsonl');
+    // each run takes ≥ 150 ms (plus a node start-up): 12 of them outlast a 1.5 s grace, yet each finishes within it
+    const slowAppend = `setTimeout(()=>{${APPEND}},150)`;
+    const busy = createCommandSink({ argv: [process.execPath, '-e', slowAppend, out], timeout_s: 10 });
+    for (let i = 0; i < 12; i++) busy.send(alert(i));
+    const t0 = Date.now();
+    expect(await busy.close(1500)).toEqual({ ran: 12, failed: 0, dropped: 0, pending: 0 });
+    expect(Date.now() - t0).toBeGreaterThan(12 * 150);
+    expect(readFileSync(out, 'utf8').trim().split('\n')).toHaveLength(12);
+    const errors: string[] = [];
+    const stuck = createCommandSink({ argv: [process.execPath, '-e', 'setTimeout(()=>{},20000)'], timeout_s: 30 }, { onError: (e) => errors.push(e) });
+    stuck.send(alert(0));
+    stuck.send(alert(1));
+    const t1 = Date.now();
+    expect(await stuck.close(300)).toMatchObject({ ran: 0, failed: 1, pending: 1 });
+    expect(Date.now() - t1).toBeLessThan(3000);
+    expect(errors.some((e) => /not run/.test(e))).toBe(true);
+  });
 });

@@ -135,6 +135,18 @@ describe('webhook sink on a real local HTTP server', () => {
     expect(() => createWebhookSink(cfg('http://127.0.0.1:1/', { timeout_s: 0 }))).toThrow(/alerts\.webhook\.timeout_s: must be > 0/);
   });
 
+  it('close(grace) drains a long queue to a slow but live receiver: the grace restarts on each delivery', async () => {
+    const got: number[] = [];
+    const srv = await listen((_q, body, res) => { setTimeout(() => { got.push(JSON.parse(body).value); res.end('ok'); }, 120); });
+    const sink = createWebhookSink(cfg(`http://127.0.0.1:${(srv.address() as AddressInfo).port}/`));
+    for (let i = 0; i < 8; i++) sink.send(alert(i));
+    const t0 = Date.now();
+    // 8 × 120 ms is well past a 500 ms grace, but each answer comes within it
+    expect(await sink.close(500)).toEqual({ delivered: 8, failed: 0, dropped: 0, pending: 0 });
+    expect(Date.now() - t0).toBeGreaterThan(8 * 120);
+    expect(got).toEqual([0, 1, 2, 3, 4, 5, 6, 7]);
+  });
+
   it('gives up after `retries` and moves on', async () => {
     const probe = await listen((_q, _b, res) => res.end());
     const port = (probe.address() as AddressInfo).port;
