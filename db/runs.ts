@@ -205,6 +205,22 @@ export function getRun(db: Database, runId: number): RunRecord | undefined {
 }
 
 /**
+ * Delete a run with its samples, windows and events (foreign keys cascade), and
+ * the station and fibre if no other run uses them: undoes a run that recorded
+ * nothing (an import of a file that decoded to no samples). Returns whether it existed.
+ */
+export function deleteRun(db: Database, runId: number): boolean {
+  return db.transaction(() => {
+    const r = db.prepare('SELECT station_id, fibre_id FROM runs WHERE id = ?').get(runId) as { station_id: number; fibre_id: number } | undefined;
+    if (!r) return false;
+    db.prepare('DELETE FROM runs WHERE id = ?').run(runId);
+    db.prepare('DELETE FROM fibres WHERE id = ? AND NOT EXISTS (SELECT 1 FROM runs WHERE fibre_id = ?)').run(r.fibre_id, r.fibre_id);
+    db.prepare('DELETE FROM stations WHERE id = ? AND NOT EXISTS (SELECT 1 FROM runs WHERE station_id = ?)').run(r.station_id, r.station_id);
+    return true;
+  }).immediate();
+}
+
+/**
  * Move a run's start to `ms` (UTC). Sample and event times are stored relative
  * to the start, so only the UTC stamps move: ended_at and every event's t_ms
  * shift by the same amount.

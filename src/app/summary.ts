@@ -55,7 +55,8 @@ export function buildSummary(db: Database.Database, runId: number): ShowSummary 
     status: run.status,
     source: run.source ?? null,
     samples: run.samples,
-    duration_s: ws.length || run.samples ? lastTime(ws) : null,
+    // the span from start to end; a run still open: up to its last window so far
+    duration_s: run.ended_at_ms !== null ? (run.ended_at_ms - run.started_at_ms) / 1000 : lastTime(ws),
     windows: s.windows,
     windows_ok: s.windows_ok,
     gaps: countEvents(db, runId, 'gap'),

@@ -1,22 +1,29 @@
 /** Human-readable output helpers (SI inside; units converted only here, for display). */
 
-/** Format a value with its standard uncertainty, rounding both to the uncertainty's 2 significant digits. */
+/**
+ * Format a value with its standard uncertainty, both rounded to the uncertainty's
+ * 2 significant digits (GUM, JCGM 100:2008 §7.2.6: at most two digits). Plain
+ * decimals while the larger of |v| and σ is in [1e-3, 1e6) and at most 9 decimals
+ * are needed; otherwise a shared power of ten: `(7.8999 ± 0.0016)e-9`.
+ */
 export function withSigma(v: number | null | undefined, s: number | null | undefined, unit = ''): string {
   if (v === null || v === undefined || !Number.isFinite(v)) return '—';
   const u = unit ? ` ${unit}` : '';
   if (s === null || s === undefined || !Number.isFinite(s) || s <= 0) return `${fmt(v)}${u}`;
+  // e: the power of ten of the last digit kept (σ's second significant digit)
   const e = Math.floor(Math.log10(s)) - 1;
-  const a = Math.abs(v);
-  // fixed decimals while the value is of ordinary size; exponent form for tiny or huge values
-  const fixed = (a === 0 || (a >= 1e-3 && a < 1e6)) && -e <= 12 && e <= 6;
-  if (!fixed) {
-    const ev = v === 0 ? 0 : Math.floor(Math.log10(Math.abs(v)));
-    const k = 10 ** ev;
-    const digits = Math.max(0, ev - e);
-    return `(${(v / k).toFixed(digits)} ± ${(s / k).toFixed(digits)})e${ev}${u}`;
+  const big = Math.max(Math.abs(v), s);
+  if (big >= 1e-3 && big < 1e6 && -e <= 9) {
+    if (e > 0) {
+      const k = 10 ** e;
+      return `${Math.round(v / k) * k} ± ${Math.round(s / k) * k}${u}`;
+    }
+    return `${v.toFixed(-e)} ± ${s.toFixed(-e)}${u}`;
   }
-  const digits = Math.max(0, -e);
-  return `${v.toFixed(digits)} ± ${s.toFixed(digits)}${u}`;
+  const ev = Math.floor(Math.log10(big));
+  const k = 10 ** ev;
+  const digits = Math.max(0, ev - e);
+  return `(${(v / k).toFixed(digits)} ± ${(s / k).toFixed(digits)})e${ev}${u}`;
 }
 
 /** A compact number: 4 significant digits, exponent form outside 1e-3 … 1e6. */
@@ -33,6 +40,12 @@ export function fmt(v: number | null | undefined, sig = 4): string {
 export function isoSeconds(ms: number | null | undefined): string {
   if (ms === null || ms === undefined || !Number.isFinite(ms)) return '—';
   return new Date(ms).toISOString().replace(/\.\d{3}Z$/, 'Z');
+}
+
+/** An ISO 8601 UTC string shortened to the second for display (`2026-03-01T10:00:00Z`); `missing` when absent. */
+export function isoShort(iso: string | null | undefined, missing = '—'): string {
+  if (!iso) return missing;
+  return iso.replace(/\.\d+Z$/, 'Z');
 }
 
 /** Duration in s → "3 d 04:05:06" style for display. */

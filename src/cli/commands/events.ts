@@ -1,8 +1,8 @@
 /** `fibrewatch events RUN [--json]`: alerts and incidents with their times. */
 import { getRun } from '../../../db/runs.js';
-import { listEvents } from '../../../db/events-store.js';
+import { listEvents, type EventListing } from '../../../db/events-store.js';
 import { RuntimeError } from '../errors.js';
-import { fmt, table } from '../format.js';
+import { fmt, isoShort, table } from '../format.js';
 import { withQueryStore } from '../store.js';
 
 export async function eventsCommand(run: number, opts: { db?: string; json?: boolean }): Promise<void> {
@@ -18,8 +18,31 @@ export async function eventsCommand(run: number, opts: { db?: string; json?: boo
       return;
     }
     process.stdout.write(table(
-      ['time (UTC)', 't_s', 'kind', 'state', 'level', 'value', 'limit', 'what happened'],
-      evs.map((e) => [e.t.replace(/\.\d{3}Z$/, 'Z'), e.t_s.toFixed(1), e.kind, e.state ?? '', e.severity, fmt(e.value), fmt(e.threshold), e.message]),
+      ['time (UTC)', 't_s (s)', 'kind', 'state', 'level', 'value', 'limit', 'what happened'],
+      evs.map((e) => {
+        const u = valueUnit(e);
+        return [isoShort(e.t), e.t_s.toFixed(1), e.kind, e.state ?? '', e.severity, withUnit(e.value, u), withUnit(e.threshold, u), e.message];
+      }),
     ));
   });
+}
+
+/** The unit of an event's value and threshold: the watcher's own `data.unit`, else what the kind's value counts. */
+export function valueUnit(e: Pick<EventListing, 'kind' | 'data'>): string {
+  const d = e.data ?? {};
+  if (typeof d.unit === 'string') return d.unit;
+  switch (e.kind) {
+    case 'gap': return d.lost_frames !== undefined ? 'frames' : 's';
+    case 'reconnect': case 'no-data': case 'clock-note': return 's';
+    case 'bad-input': return 'records';
+    default: return '';
+  }
+}
+
+/** A value with its unit for display; rates in rad/s are shown per hour, as in `show`. */
+function withUnit(x: number | null, unit: string): string {
+  if (x === null) return '—';
+  if (unit === 'rad/s') return `${fmt(x * 3600)} rad/h`;
+  if (unit === 'fraction' || unit === '') return fmt(x);
+  return `${fmt(x)} ${unit}`;
 }

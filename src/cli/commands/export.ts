@@ -14,34 +14,75 @@ import { csv } from '../format.js';
 import { openForQuery } from '../store.js';
 import { windowRows } from './windows.js';
 
+/** Columns of an events export, in order (CONTRACT.md's event fields, then state and data). */
+const EVENT_COLUMNS = ['t', 't_s', 'kind', 'severity', 'message', 'value', 'threshold', 'state', 'data'];
+/** Columns of a windows export when the run has none yet (the same as a stored window's). */
+const WINDOW_COLUMNS = [
+  'index', 't_start_s', 't_mid_s', 't_end_s', 'samples', 'status', 'period_s', 'period_sigma_s', 'decay_time_s', 'decay_time_sigma_s',
+  'q', 'q_sigma', 'amplitude_rad', 'amplitude_sigma_rad', 'equilibrium_rad', 'equilibrium_sigma_rad', 'drift_rad_per_s',
+  'drift_sigma_rad_per_s', 'phase_rad', 'residual_rms_rad', 'chi2_red', 'kappa_Nm_per_rad', 'kappa_sigma_Nm_per_rad',
+  'shear_modulus_Pa', 'shear_modulus_sigma_Pa', 'temp_C', 't_mid',
+];
+
+/** The reader went away (`… | head`): stop quietly, as command-line tools do. */
+class ReaderGone extends Error {}
+
+/** Write, waiting for the stream to drain; rejects with the stream's error (a closed pipe, a full disk). */
 async function write(out: Writable, s: string): Promise<void> {
+  const err = (out as Writable & { fwError?: Error }).fwError;
+  if (err) throw err;
   if (!out.write(s)) await once(out, 'drain');
+}
+
+/** The output stream: a file opened before anything is read (so a bad path fails at once), or stdout. */
+async function openOut(path: string | undefined): Promise<Writable> {
+  const out: Writable & { fwError?: Error } = path ? createWriteStream(path) : process.stdout;
+  // keep the first error for write(); an 'error' with no listener would kill the process
+  out.on('error', (e: NodeJS.ErrnoException) => {
+    out.fwError ??= e.code === 'EPIPE' && !path ? new ReaderGone() : e;
+  });
+  if (path) {
+    try {
+      await once(out, 'open');
+    } catch (e) {
+      throw new RuntimeError(`--out ${path}: cannot write (${(e as NodeJS.ErrnoException).code ?? (e as Error).message})`);
+    }
+  }
+  return out;
 }
 
 export async function exportCommand(run: number, opts: { what: 'samples' | 'windows' | 'events'; format: 'csv' | 'json'; out?: string; db?: string }): Promise<void> {
   const db = openForQuery(opts.db);
-  const out: Writable = opts.out ? createWriteStream(opts.out) : process.stdout;
+  let out: Writable | undefined;
   try {
     const r = getRun(db, run);
     if (!r) throw new RuntimeError(`run ${run}: no such run in this store`);
+    out = await openOut(opts.out);
     if (opts.what === 'samples') {
       await exportSamples(db, run, out, opts.format);
+    } else if (opts.format === 'json') {
+      const rows = opts.what === 'windows' ? windowRows(listWindows(db, run), r.started_at_ms) : listEvents(db, run);
+      await write(out, JSON.stringify(rows, null, 2) + '\n');
     } else {
       const rows: Record<string, unknown>[] = opts.what === 'windows'
         ? windowRows(listWindows(db, run), r.started_at_ms)
         : listEvents(db, run).map((e) => ({ ...e, data: e.data === null ? null : JSON.stringify(e.data) }));
-      if (opts.format === 'json') await write(out, JSON.stringify(opts.what === 'events' ? listEvents(db, run) : rows, null, 2) + '\n');
-      else {
-        const keys = rows.length ? Object.keys(rows[0]) : [];
-        await write(out, csv(keys, rows.map((o) => keys.map((k) => o[k]))));
-      }
+      const keys = rows.length ? Object.keys(rows[0]) : opts.what === 'windows' ? WINDOW_COLUMNS : EVENT_COLUMNS;
+      await write(out, csv(keys, rows.map((o) => keys.map((k) => o[k]))));
     }
-  } finally {
-    db.close();
     if (opts.out) {
       out.end();
       await once(out, 'finish');
     }
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    if (e instanceof ReaderGone || (!opts.out && code === 'EPIPE')) return;
+    if (e instanceof RuntimeError) throw e;
+    if (opts.out && code) throw new RuntimeError(`--out ${opts.out}: ${code} while writing`);
+    throw e;
+  } finally {
+    db.close();
+    if (opts.out && out && !out.writableFinished) out.destroy();
   }
 }
 

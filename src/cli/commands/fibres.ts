@@ -1,8 +1,15 @@
 /** `fibrewatch fibres` and `fibrewatch fibre NAME`: fibres and their history across runs. */
 import { fibreHistory, listFibres } from '../../../db/fibres.js';
 import { RuntimeError } from '../errors.js';
-import { fmt, table, withSigma } from '../format.js';
+import { fmt, isoShort, table, withSigma } from '../format.js';
 import { withQueryStore } from '../store.js';
+
+/** Cross-section for display: the diameter of a round fibre, width × thickness of a ribbon, in µm. */
+function size(f: { diameter_m: number | null; width_m: number | null; thickness_m: number | null }): string {
+  if (f.diameter_m !== null) return fmt(f.diameter_m * 1e6);
+  if (f.width_m !== null && f.thickness_m !== null) return `${fmt(f.width_m * 1e6)} × ${fmt(f.thickness_m * 1e6)}`;
+  return '—';
+}
 
 export async function fibresCommand(opts: { db?: string; json?: boolean }): Promise<void> {
   withQueryStore(opts.db, (db) => {
@@ -10,8 +17,8 @@ export async function fibresCommand(opts: { db?: string; json?: boolean }): Prom
     if (opts.json) return void process.stdout.write(JSON.stringify(fs, null, 2) + '\n');
     if (!fs.length) return void process.stderr.write('no fibres in this store\n');
     process.stdout.write(table(
-      ['fibre', 'material', 'd (µm)', 'L (m)', 'runs', 'first run', 'last run'],
-      fs.map((f) => [f.name, f.material ?? '', f.diameter_m ? fmt(f.diameter_m * 1e6) : '', fmt(f.length_m), String(f.runs), f.first_run ?? '', f.last_run ?? '']),
+      ['fibre', 'material', 'd or w × t (µm)', 'L (m)', 'runs', 'first run (UTC)', 'last run (UTC)'],
+      fs.map((f) => [f.name, f.material ?? '', size(f), fmt(f.length_m), String(f.runs), isoShort(f.first_run, ''), isoShort(f.last_run, '')]),
     ));
   });
 }
@@ -25,7 +32,7 @@ export async function fibreCommand(name: string, opts: { db?: string; json?: boo
     process.stdout.write(table(
       ['run', 'started (UTC)', 'status', 'period (s)', 'Q', 'κ (N·m/rad)', 'G (GPa)', 'creep (rad/h)', 'κ moved?'],
       rows.map((r) => [
-        String(r.run), r.started_at.replace(/\.\d{3}Z$/, 'Z'), r.status, withSigma(r.period_s, r.period_sigma_s), fmt(r.q),
+        String(r.run), isoShort(r.started_at), r.status, withSigma(r.period_s, r.period_sigma_s), fmt(r.q),
         withSigma(r.kappa_Nm_per_rad, r.kappa_sigma_Nm_per_rad),
         r.shear_modulus_Pa === null ? '—' : withSigma(r.shear_modulus_Pa / 1e9, (r.shear_modulus_sigma_Pa ?? 0) / 1e9),
         r.equilibrium_rate_rad_per_s === null ? '—' : withSigma(r.equilibrium_rate_rad_per_s * 3600, (r.equilibrium_rate_sigma_rad_per_s ?? 0) * 3600),

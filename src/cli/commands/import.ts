@@ -4,8 +4,8 @@ import cliProgress from 'cli-progress';
 import { loadStation } from '../../config/station.js';
 import { importFile } from '../../app/import-file.js';
 import { buildSummary } from '../../app/summary.js';
-import { parseDateArg } from '../../../db/runs.js';
-import { RuntimeError, UsageError } from '../errors.js';
+import { deleteRun, parseDateArg } from '../../../db/runs.js';
+import { UsageError } from '../errors.js';
 import { openForWrite } from '../store.js';
 import { renderSummary } from './show.js';
 
@@ -42,7 +42,11 @@ export async function importCommand(file: string, opts: { station: string; start
       log: (l) => { if (bar) bar.stop(); process.stderr.write(l + '\n'); },
     });
     bar?.stop();
-    if (res.samples === 0) throw new RuntimeError(`${file}: no samples decoded (${res.badRecords} bad records); check input.format and input.columns`);
+    if (res.samples === 0) {
+      // nothing to keep: leave no empty run behind; a file that decodes to nothing is bad input (exit 2)
+      deleteRun(db, res.runId);
+      throw new UsageError(`${file}: no samples decoded (${res.badRecords} bad records); check the station's input.format and input.${station.input.format === 'frames' ? 'channels' : 'columns'}`);
+    }
     const s = buildSummary(db, res.runId);
     process.stdout.write(opts.json ? JSON.stringify(s, null, 2) + '\n' : renderSummary(s));
   } finally {

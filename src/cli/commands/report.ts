@@ -1,10 +1,15 @@
 /** `fibrewatch report RUN --out FILE.html`: a self-contained HTML report. */
 import { writeFileSync } from 'node:fs';
 import { renderReport } from '../../report/html-report.js';
+import { RuntimeError } from '../errors.js';
 import { withQueryStore } from '../store.js';
 
 export async function reportCommand(run: number, opts: { out: string; db?: string }): Promise<void> {
   const html = withQueryStore(opts.db, (db) => renderReport(db, run));
-  writeFileSync(opts.out, html);
+  try {
+    writeFileSync(opts.out, html);
+  } catch (e) {
+    throw new RuntimeError(`--out ${opts.out}: cannot write (${(e as NodeJS.ErrnoException).code ?? (e as Error).message})`);
+  }
   process.stderr.write(`wrote ${opts.out}\n`);
 }

@@ -2,7 +2,7 @@
 import { openForQuery } from '../store.js';
 import { listRuns, parseDateArg } from '../../../db/runs.js';
 import { UsageError } from '../errors.js';
-import { table } from '../format.js';
+import { duration, isoShort, table } from '../format.js';
 
 export async function runsCommand(opts: { fibre?: string; station?: string; since?: string; until?: string; db?: string; json?: boolean }): Promise<void> {
   const date = (flag: string, v?: string) => {
@@ -27,8 +27,12 @@ export async function runsCommand(opts: { fibre?: string; station?: string; sinc
       return;
     }
     process.stdout.write(table(
-      ['run', 'station', 'fibre', 'from (UTC)', 'to (UTC)', 'status', 'samples', 'windows'],
-      rows.map((r) => [String(r.run), r.station, r.fibre, r.started_at ?? '—', r.ended_at ?? '(open)', r.status, String(r.samples), String(r.windows ?? '')]),
+      ['run', 'station', 'fibre', 'started (UTC)', 'ended (UTC)', 'length', 'status', 'samples', 'windows', 'gaps'],
+      rows.map((r) => [
+        String(r.run), r.station, r.fibre, isoShort(r.started_at), isoShort(r.ended_at, '(still recording)'),
+        r.ended_at ? duration((Date.parse(r.ended_at) - Date.parse(r.started_at)) / 1000) : '',
+        r.status, String(r.samples), String(r.windows ?? ''), String(r.gaps ?? ''),
+      ]),
     ));
   } finally {
     db.close();

@@ -1,7 +1,7 @@
 /** `fibrewatch show RUN [--json]`: one run's summary. */
 import { openForQuery } from '../store.js';
 import { buildSummary, type ShowSummary } from '../../app/summary.js';
-import { duration, fmt, withSigma } from '../format.js';
+import { duration, fmt, isoShort, withSigma } from '../format.js';
 
 export async function showCommand(run: number, opts: { db?: string; json?: boolean }): Promise<void> {
   const db = openForQuery(opts.db);
@@ -18,7 +18,7 @@ export function renderSummary(s: ShowSummary): string {
   const perH = (x: number | null) => (x === null ? null : x * 3600);
   const lines = [
     `Run ${s.run} · station ${s.station} · fibre ${s.fibre} · ${s.status}`,
-    `  span           ${s.started_at ?? '—'} → ${s.ended_at ?? '(open)'}${s.duration_s !== null ? `  (${duration(s.duration_s)})` : ''}`,
+    `  span (UTC)     ${isoShort(s.started_at)} → ${isoShort(s.ended_at, '(still recording)')}${s.duration_s !== null ? `  (${duration(s.duration_s)})` : ''}`,
     `  samples        ${s.samples}   windows ${s.windows} (${s.windows_ok} ok)   gaps ${s.gaps}   events ${s.events}`,
     `  period         ${withSigma(s.period_s, s.period_sigma_s, 's')}`,
     `  Q              ${withSigma(s.q, s.q_sigma)}`,
@@ -31,6 +31,6 @@ export function renderSummary(s: ShowSummary): string {
     lines.push(`  G              ${withSigma(g, gs, 'GPa')}`);
   }
   if (s.amplitude_rad !== null) lines.push(`  amplitude      ${fmt(s.amplitude_rad)} rad (last window)`);
-  for (const a of s.alerts) lines.push(`  alert          ${a.kind}: ${a.state} at ${a.t} — ${a.message}`);
+  for (const a of s.alerts) lines.push(`  alert          ${a.kind}: ${a.state} at ${isoShort(a.t)} — ${a.message}`);
   return lines.join('\n') + '\n';
 }
