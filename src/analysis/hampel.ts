@@ -76,16 +76,17 @@ export class HampelDetector {
   push(x: number, usable: boolean): number {
     const w = this.ringV.length;
     const j = this.count;
-    // the sample leaving: j − (2k+1), outside the window of sample j − k
-    if (j >= w) {
-      const slot = j % w;
-      if (this.ringU[slot]) this.remove(this.ringV[slot]);
-    }
     const ok = usable && Number.isFinite(x);
     const slot = j % w;
+    // the sample leaving: j − (2k+1), outside the window of sample j − k
+    const leaving = j >= w && this.ringU[slot] !== 0;
+    if (leaving && ok) this.replace(this.ringV[slot], x);
+    else {
+      if (leaving) this.remove(this.ringV[slot]);
+      if (ok) this.insert(x);
+    }
     this.ringV[slot] = x;
     this.ringU[slot] = ok ? 1 : 0;
-    if (ok) this.insert(x);
     this.count++;
     if (j < this.k) return HAMPEL_PENDING;
     return this.decide(j - this.k);
@@ -170,6 +171,28 @@ export class HampelDetector {
     }
     s[i] = x;
     this.m++;
+  }
+
+  /** Remove `out` and insert `x` in one pass (the steady state: one sample in, one out). */
+  private replace(out: number, x: number): void {
+    const s = this.sorted;
+    const m = this.m;
+    let i = 0;
+    while (i < m && s[i] !== out) i++;
+    if (i === m) return this.insert(x);
+    // slide the hole at i towards x's place
+    if (x > out) {
+      while (i + 1 < m && s[i + 1] < x) {
+        s[i] = s[i + 1];
+        i++;
+      }
+    } else {
+      while (i > 0 && s[i - 1] > x) {
+        s[i] = s[i - 1];
+        i--;
+      }
+    }
+    s[i] = x;
   }
 
   private remove(x: number): void {
