@@ -8,6 +8,9 @@
  * it). The temperature coefficient is refitted on every window from the
  * trailing `temp_horizon_s` of windows that were not in alert and within one
  * threshold of the baseline, once their temperatures span `temp_min_span_K`.
+ *
+ * Raise rule: CUSUM statistic > h AND the latest window's shift ≥
+ * raise_fraction × period_change_ppm on the same side (see the option).
  */
 import { Observable } from 'rxjs';
 import type { Incident } from '../../src/config/events.js';
@@ -32,6 +35,12 @@ export interface WatchPeriodOptions {
   temp_min_span_K?: number;
   /** CUSUM tuning in units of the change (see cusum.ts) */
   cusum?: CusumOptions;
+  /**
+   * to raise, the latest window's shift must also reach this fraction of the change, on the CUSUM's side
+   * (default 0.7): the CUSUM (k = ¼) builds up under any sustained shift above 75 ppm of 300, and a daily
+   * swing of ±100 ppm with no temperature channel to remove it must not read as a 300 ppm change
+   */
+  raise_fraction?: number;
   /** least time between `updated` incidents, s (default 1800) */
   update_every_s?: number;
   /** hysteresis (defaults 0.7 and 3) */
@@ -49,6 +58,8 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
   const tempHorizon = opts.temp_horizon_s ?? 86400;
   const minSpan = opts.temp_min_span_K ?? 0.3;
   const co = cusumOptions(opts.cusum);
+  const raiseFrac = opts.raise_fraction ?? 0.7;
+  if (!(raiseFrac >= 0 && raiseFrac <= 1)) throw new RangeError(`watchPeriod: raise_fraction must be in [0, 1], got ${raiseFrac}`);
   if (!(delta > 0)) throw new RangeError(`watchPeriod: period_change_ppm must be > 0, got ${ppm}`);
   if (!(nBase >= 1)) throw new RangeError(`watchPeriod: baseline_windows must be ≥ 1, got ${nBase}`);
   return (source: Observable<WindowResult>) =>
@@ -104,6 +115,7 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
           t,
           stat: g,
           statThreshold: co.h,
+          significant: Math.abs(r) >= raiseFrac * delta && Math.sign(r) === side,
           value: shift * 1e6,
           threshold: ppm,
           message: (st) => st === 'cleared'

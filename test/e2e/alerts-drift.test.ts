@@ -38,6 +38,22 @@ describe('drift alerts through simulator file → fibrewatch import', () => {
     expect(events.some((e) => e.kind === 'gap')).toBe(true);
   });
 
+  it('without a temperature channel, the same ±100 ppm daily swing still raises no period-drift against 300 ppm (3 days)', async () => {
+    const { temperature_channel: _drop, ...rest } = quietWeek();
+    const sc = { ...rest, name: 'quiet-no-thermometer', duration_s: 3 * 86400, dropouts: [], output: { format: 'lines' as const, columns: ['t_s', 'angle_rad'] } };
+    const file = await simulateToFile(dir, sc, 14);
+    const station = writeStation(dir, {}, 'no-thermometer.json', { columns: ['t_s', 'angle_rad'] });
+    const { events, windows } = await importAndRead(file, station, join(dir, 'quiet-no-thermometer.db'));
+    const ok = windows.filter((w) => w.status === 'ok') as (typeof windows[number] & { period_s: number; temp_C: number | null })[];
+    expect(ok.length).toBeGreaterThan(550);
+    expect(ok.every((w) => w.temp_C === null)).toBe(true);
+    // the swing is there, uncorrected: about 200 ppm peak to peak
+    const ps = ok.map((w) => w.period_s);
+    const mid = [...ps].sort((a, b) => a - b)[ps.length >> 1];
+    expect((Math.max(...ps) - Math.min(...ps)) / mid).toBeGreaterThan(180e-6);
+    expect(events.filter((e) => DRIFT_KINDS.includes(e.kind))).toEqual([]);
+  });
+
   it('a creep starting mid-run at 2× the threshold rate is raised within 3 h of its start', async () => {
     const start = 10 * 3600 + 777;
     const tc = 12 * 3600;

@@ -49,6 +49,19 @@ describe('watchPeriod', () => {
     expect(on).toEqual([]);
   });
 
+  it('with no temperature channel, a ±100 ppm daily swing (up to ~200 ppm from a baseline taken near one extreme) does not raise against 300 ppm', async () => {
+    for (const phase of [0, Math.PI / 2, Math.PI, -Math.PI / 2]) {
+      // 4 K peak to peak × 50 ppm/K = ±100 ppm, at 429 s (one window per period); the thermometer is absent
+      const ws = simulateWindowSeries({ seed: 17, hours: 72, period_s: 429, period_sigma_rel: 2e-7, temp_swing_K: 4, temp_coef_ppm_per_K: 50, temp_phase_rad: phase })
+        .map((w) => ({ ...w, temp_C: null }));
+      const ps = ws.map((w) => w.period_s!);
+      expect((Math.max(...ps) - Math.min(...ps)) / 429).toBeGreaterThan(190e-6);
+      expect(await run(ws)).toEqual([]);
+      // the CUSUM alone (no magnitude gate) would have raised on it
+      expect((await run(ws, { raise_fraction: 0 })).some((i) => i.state === 'raised')).toBe(true);
+    }
+  });
+
   it('needs the baseline first, skips rejected windows, validates its options', async () => {
     const ws = simulateWindowSeries({ seed: 17, hours: 1, period_step: { t_s: 0, ppm: 1000 } });
     expect(await run(ws.slice(0, 30))).toEqual([]);
