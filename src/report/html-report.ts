@@ -8,7 +8,7 @@ import { listWindows } from '../../db/windows-store.js';
 import { listEvents } from '../../db/events-store.js';
 import { readSamples } from '../../db/sample-reader.js';
 import { buildSummary } from '../app/summary.js';
-import { withSigma, fmt } from '../cli/format.js';
+import { withSigma, fmt, isoShort } from '../cli/format.js';
 import { plotSvg } from './svg-plot.js';
 
 const esc = (s: string) => s.replace(/[&<>"]/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[c]!);
@@ -42,7 +42,7 @@ export function renderReport(db: Database.Database, runId: number): string {
   const row = (k: string, v: string) => `<tr><th>${esc(k)}</th><td>${esc(v)}</td></tr>`;
   const summary = [
     row('station / fibre', `${s.station} / ${s.fibre}`),
-    row('span (UTC)', `${s.started_at ?? '—'} → ${s.ended_at ?? 'open'}`),
+    row('span (UTC)', `${isoShort(s.started_at)} → ${isoShort(s.ended_at, 'still recording')}`),
     row('status', s.status),
     row('samples / windows (ok) / gaps', `${s.samples} / ${s.windows} (${s.windows_ok}) / ${s.gaps}`),
     row('period', withSigma(s.period_s, s.period_sigma_s, 's')),

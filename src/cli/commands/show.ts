@@ -15,22 +15,23 @@ export async function showCommand(run: number, opts: { db?: string; json?: boole
 
 /** The human-readable summary (also printed by `demo` and `import`). */
 export function renderSummary(s: ShowSummary): string {
-  const perH = (x: number | null) => (x === null ? null : x * 3600);
+  const perH = (x: number | null | undefined) => (x === null || x === undefined ? null : x * 3600);
+  const row = (label: string, value: string) => `  ${label.padEnd(18)}${value}`;
   const lines = [
     `Run ${s.run} · station ${s.station} · fibre ${s.fibre} · ${s.status}`,
-    `  span (UTC)     ${isoShort(s.started_at)} → ${isoShort(s.ended_at, '(still recording)')}${s.duration_s !== null ? `  (${duration(s.duration_s)})` : ''}`,
-    `  samples        ${s.samples}   windows ${s.windows} (${s.windows_ok} ok)   gaps ${s.gaps}   events ${s.events}`,
-    `  period         ${withSigma(s.period_s, s.period_sigma_s, 's')}`,
-    `  Q              ${withSigma(s.q, s.q_sigma)}`,
-    `  equilibrium    ${withSigma(perH(s.equilibrium_rate_rad_per_s), perH(s.equilibrium_rate_sigma_rad_per_s), 'rad/h')} (rate over the run)`,
+    row('span (UTC)', `${isoShort(s.started_at)} → ${isoShort(s.ended_at, '(still recording)')}${s.duration_s !== null ? `  (${duration(s.duration_s)})` : ''}`),
+    row('samples', `${s.samples}   windows ${s.windows} (${s.windows_ok} ok)   gaps ${s.gaps}   events ${s.events}`),
+    row('period', withSigma(s.period_s, s.period_sigma_s, 's')),
+    row('Q', withSigma(s.q, s.q_sigma)),
+    row('equilibrium rate', `${withSigma(perH(s.equilibrium_rate_rad_per_s), perH(s.equilibrium_rate_sigma_rad_per_s), 'rad/h')} (over the run)`),
   ];
-  if (s.kappa_Nm_per_rad !== undefined) lines.push(`  κ              ${withSigma(s.kappa_Nm_per_rad, s.kappa_sigma_Nm_per_rad, 'N·m/rad')}`);
+  if (s.kappa_Nm_per_rad !== undefined) lines.push(row('κ', withSigma(s.kappa_Nm_per_rad, s.kappa_sigma_Nm_per_rad, 'N·m/rad')));
   if (s.shear_modulus_Pa !== undefined) {
     const g = s.shear_modulus_Pa === null ? null : s.shear_modulus_Pa / 1e9;
     const gs = s.shear_modulus_sigma_Pa == null ? null : s.shear_modulus_sigma_Pa / 1e9;
-    lines.push(`  G              ${withSigma(g, gs, 'GPa')}`);
+    lines.push(row('G', withSigma(g, gs, 'GPa')));
   }
-  if (s.amplitude_rad !== null) lines.push(`  amplitude      ${fmt(s.amplitude_rad)} rad (last window)`);
-  for (const a of s.alerts) lines.push(`  alert          ${a.kind}: ${a.state} at ${isoShort(a.t)} — ${a.message}`);
+  if (s.amplitude_rad !== null) lines.push(row('amplitude', `${fmt(s.amplitude_rad)} rad (last window)`));
+  for (const a of s.alerts) lines.push(row('alert', `${a.kind}: ${a.state} at ${isoShort(a.t)} — ${a.message}`));
   return lines.join('\n') + '\n';
 }
