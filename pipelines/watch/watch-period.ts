@@ -120,7 +120,7 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
           threshold: ppm,
           message: (st) => st === 'cleared'
             ? `period back within ${(0.7 * ppm).toFixed(0)} ppm of the baseline ${pRef.toFixed(6)} s: ${fmtPpm(shift)} ppm now`
-            : `period ${side > 0 ? 'up' : 'down'}: ${fmtPpm(shift)} ppm from the baseline ${pRef.toFixed(6)} s (threshold ${ppm} ppm; CUSUM ${g.toFixed(2)}, decision level ${co.h}, in units of ${ppm} ppm${useCoef ? `; temperature removed at ${(coef * 1e6).toFixed(1)} ppm/K` : ''})`,
+            : `period ${side > 0 ? 'up' : 'down'}: ${fmtPpm(shift)} ppm from the baseline ${pRef.toFixed(6)} s (threshold ${ppm} ppm; CUSUM ${g.toFixed(2)}, decision level ${co.h}, in units of ${ppm} ppm${useCoef && (coefFitted || prior !== 0) ? `; temperature removed at ${(coef * 1e6).toFixed(1)} ppm/K${coefFitted ? '' : ' (prior)'}` : ''})`,
           data: {
             unit: 'ppm', shift_ppm: shift * 1e6, period_s: p, baseline_period_s: pRef, cusum: g, cusum_h: co.h,
             side, temp_coefficient_ppm_per_K: useCoef ? coef * 1e6 : null, temp_coefficient_fitted: coefFitted, t_mid_s: t,
