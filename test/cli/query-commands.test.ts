@@ -131,13 +131,15 @@ describe('runs', () => {
   });
 
   it('refuses a bad --since/--until with exit 2 naming the flag', async () => {
-    const cases = [['--since', '2026-02-30'], ['--since', 'yesterday'], ['--until', '2026-13-01'], ['--until', '03/06/2026']];
+    const cases = [['--since', '2026-02-30'], ['--since', 'yesterday'], ['--until', '2026-13-01'], ['--until', '03/06/2026'],
+      // an empty span is a mistake, not a question
+      ['--since', '2026-03-06', '--until', '2026-03-06'], ['--since', '2026-03-07', '--until', '2026-03-06T12:00:00Z']];
     const rs = await many(cases.map((c) => ['runs', ...c, '--json']));
-    for (const [i, [flag, v]] of cases.entries()) {
+    for (const [i, c] of cases.entries()) {
       const r = rs[i];
-      expect(r.status, `${flag} ${v}`).toBe(2);
+      expect(r.status, c.join(' ')).toBe(2);
       expect(r.stdout).toBe('');
-      expect(r.stderr).toContain(flag);
+      expect(r.stderr).toContain(c.length === 2 ? c[0] : '--until');
       expect(r.stderr.trim().split('\n')).toHaveLength(1);
     }
   });
@@ -351,6 +353,18 @@ describe('export', () => {
     expect(rows.length).toBe(json<{ samples: number }>('show', '3').samples);
     expect(rows[100].t_s).toBeCloseTo(src[100][0], 6);
     expect(Math.abs(rows[100].angle_rad - src[100][1])).toBeLessThanOrEqual(2 ** -23 * 5e-3);
+  });
+
+  it('samples of a frames run: one row per sample, angles in radians (raw counts × scale)', () => {
+    const r = cli('export', '2', '--what', 'samples', '--format', 'csv');
+    expect(r.status).toBe(0);
+    const rows = r.stdout.trimEnd().split('\n').slice(1).map((l) => l.split(',').map(Number));
+    expect(rows.length).toBe(runs[1].duration_s * runs[1].sample_rate_hz);
+    // the swing the scenario started with (4 mrad), not counts or micro-radians
+    const peak = Math.max(...rows.slice(0, 300).map((x) => Math.abs(x[1] - 1e-3)));
+    expect(peak).toBeGreaterThan(3.5e-3);
+    expect(peak).toBeLessThan(4.5e-3);
+    expect(rows[1][0] - rows[0][0]).toBeCloseTo(1 / runs[1].sample_rate_hz, 6);
   });
 
   it('windows and events as JSON equal the windows/events commands; as CSV they have a header and a row each', () => {

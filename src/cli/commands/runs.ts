@@ -15,6 +15,9 @@ export async function runsCommand(opts: { fibre?: string; station?: string; sinc
   };
   const sinceMs = date('--since', opts.since);
   const untilMs = date('--until', opts.until);
+  if (sinceMs !== undefined && untilMs !== undefined && untilMs <= sinceMs) {
+    throw new UsageError(`--until: ${opts.until} is not after --since ${opts.since} (the span [since, until) would be empty)`);
+  }
   const db = openForQuery(opts.db);
   try {
     const rows = listRuns(db, { fibre: opts.fibre, station: opts.station, sinceMs, untilMs });
