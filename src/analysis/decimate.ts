@@ -21,11 +21,16 @@
  * per period the fitted phase is off by about 10 mrad. Pass `delayAt_Hz` = f0
  * to remove the phase delay at the swing frequency instead (exact at f0).
  *
- * Flags of an output sample (conservative rule): it carries FLAG_SATURATED,
- * FLAG_SPIKE or FLAG_INVALID when any input sample among the last L that fed
- * it had that flag, L being the impulse response length holding all but 1e-4
- * of its L1 norm (`support`). Bad input samples are replaced by the last good
- * value before filtering, so they cannot poison the state. After
+ * Flags of an output sample: it carries FLAG_SATURATED or FLAG_INVALID when
+ * an input sample among the last L that fed it was saturated or part of an
+ * invalid stretch (≥ 3 in a row), L being the impulse response length holding
+ * all but 1e-4 of its L1 norm (`support`). Bad input samples are replaced by
+ * the last good value before filtering, so they cannot poison the state; for
+ * an isolated bad sample (a despiked spike, one lost line) that hold differs
+ * from the truth by about one sample's worth of swing, which the filter spreads
+ * at a level far below the noise, so it flags only the next kept output
+ * (FLAG_SPIKE or FLAG_INVALID) instead of L inputs' worth: the despiker's rare
+ * false alarms would otherwise mask a period's worth of good samples each. After
  * FLAG_AFTER_GAP the filter restarts: its state settles on the first good
  * value, the kept-sample phase restarts so the sample after the gap is kept
  * (and carries FLAG_AFTER_GAP), and outputs within L input samples of the
@@ -100,6 +105,8 @@ export class Decimator {
   private lastSat = -Infinity;
   private lastSpike = -Infinity;
   private lastInvalid = -Infinity;
+  private lastShortInvalid = -Infinity;
+  private invalidRun = 0;
   private settleUntil = 0;
   private gapPending = false;
 
@@ -141,7 +148,8 @@ export class Decimator {
     this.started = false;
     this.seg = 0;
     this.lastGood = NaN;
-    this.lastSat = this.lastSpike = this.lastInvalid = -Infinity;
+    this.lastSat = this.lastSpike = this.lastInvalid = this.lastShortInvalid = -Infinity;
+    this.invalidRun = 0;
     this.settleUntil = 0;
     this.gapPending = false;
   }
@@ -170,7 +178,8 @@ export class Decimator {
         events.push(i - from, 0);
         this.seg = 0;
         this.started = false;
-        this.lastSat = this.lastSpike = this.lastInvalid = -Infinity;
+        this.lastSat = this.lastSpike = this.lastInvalid = this.lastShortInvalid = -Infinity;
+        this.invalidRun = 0;
         this.gapPending = true;
       }
       const s = this.seg;
@@ -179,9 +188,14 @@ export class Decimator {
       if (bad) {
         if (f & FLAG_SATURATED) this.lastSat = s;
         if (f & FLAG_SPIKE) this.lastSpike = s;
-        if (f & FLAG_INVALID || !Number.isFinite(x)) this.lastInvalid = s;
+        if (f & FLAG_INVALID || !Number.isFinite(x)) {
+          this.invalidRun++;
+          this.lastShortInvalid = s;
+          if (this.invalidRun >= 3) this.lastInvalid = s; // a stretch, not an isolated sample
+        } else this.invalidRun = 0;
         x = this.lastGood; // hold: keeps the state finite and close
       } else {
+        this.invalidRun = 0;
         this.lastGood = x;
         if (!this.started) {
           this.started = true;
@@ -193,8 +207,8 @@ export class Decimator {
       if (s % M === 0) {
         let of_ = 0;
         if (s - this.lastSat < L) of_ |= FLAG_SATURATED;
-        if (s - this.lastSpike < L) of_ |= FLAG_SPIKE;
-        if (s - this.lastInvalid < L || (filt && (!this.started || s < this.settleUntil))) of_ |= FLAG_INVALID;
+        if (s - this.lastSpike < M) of_ |= FLAG_SPIKE;
+        if (s - this.lastInvalid < L || s - this.lastShortInvalid < M || (filt && (!this.started || s < this.settleUntil))) of_ |= FLAG_INVALID;
         if (this.gapPending) {
           of_ |= FLAG_AFTER_GAP;
           this.gapPending = false;

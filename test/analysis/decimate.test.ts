@@ -152,6 +152,27 @@ describe('Decimator', () => {
     }
   });
 
+  it('an isolated spike or lost sample flags only the next kept output, and costs far less than the noise', () => {
+    const N = 6000;
+    const t = times(N, dt);
+    const y = t.map((v) => Math.cos(0.2 * v));
+    const flags = new Uint8Array(N);
+    flags[2000] = FLAG_SPIKE;
+    y[2000] = 50; // the spike's value is never used: the last good value is held
+    flags[4000] = FLAG_INVALID;
+    y[4000] = NaN;
+    const out = new Decimator({ factor: M, sampleInterval_s: dt }).process(t, y, flags);
+    const clean = new Decimator({ factor: M, sampleInterval_s: dt }).process(t, t.map((v) => Math.cos(0.2 * v)), new Uint8Array(N));
+    let spiked = 0, invalid = 0;
+    for (let k = 0; k < out.n; k++) {
+      if (out.flags[k] & FLAG_SPIKE) spiked++;
+      if ((out.flags[k] & FLAG_INVALID) && !(clean.flags[k] & FLAG_INVALID)) invalid++;
+      if (!out.flags[k] && !clean.flags[k]) expect(Math.abs(out.y[k] - clean.y[k])).toBeLessThan(1e-3);
+    }
+    expect(spiked).toBe(1);
+    expect(invalid).toBe(1);
+  });
+
   it('restarts after a gap: output after the gap equals a fresh run on the data after it', () => {
     const N = 4000;
     const t = times(N, dt);
