@@ -11,6 +11,8 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { spawn } from 'node:child_process';
+import { createServer } from 'node:http';
+import type { AddressInfo } from 'node:net';
 import { fileURLToPath } from 'node:url';
 import { startPtyPair, waitFor, type PtyPair } from '../../src/app/pty-pair.js';
 import { runCliAsync, startCli } from '../helpers/cli.js';
@@ -33,12 +35,20 @@ const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 describe('no-data during record over a pseudo-terminal', () => {
   it(`is raised within no_data_s + 1 s of the device falling silent and cleared when data returns`, async () => {
     pty = await startPtyPair(dir);
+    // the alerts also go to a webhook on a live local server: the record path is wired to delivery too
+    const posted: { kind: string; state: string; t: string; t_s: number }[] = [];
+    const srv = createServer((req, res) => {
+      let body = '';
+      req.setEncoding('utf8').on('data', (d) => (body += d)).on('end', () => { posted.push(JSON.parse(body)); res.end('ok'); });
+    });
+    await new Promise<void>((r) => srv.listen(0, '127.0.0.1', () => r()));
+    const url = `http://127.0.0.1:${(srv.address() as AddressInfo).port}/hook`;
     const station = join(dir, 'station.json');
     writeFileSync(station, JSON.stringify({
       station: 'pty-quiet', fibre: { name: 'test-fibre' },
       input: { device: pty.devicePath, format: 'lines', columns: ['t_s', 'angle_rad'] },
       sensor: { kind: 'angle' },
-      alerts: { no_data_s: NO_DATA_S },
+      alerts: { no_data_s: NO_DATA_S, webhook: { url, timeout_s: 2 } },
     }));
     const db = join(dir, 'store.db');
     const rec = startCli(['record', '--station', station, '--db', db]);
@@ -88,7 +98,12 @@ describe('no-data during record over a pseudo-terminal', () => {
       expect(Number(cleared[0].value)).toBeLessThan((backAt - silentAt) / 1000 + 0.5);
       // the port stayed open: a silence is not an unplug
       expect(JSON.parse(ev.stdout).some((e: EventJson) => e.kind === 'reconnect')).toBe(false);
+      // the webhook got both, with the stored times
+      const hooked = posted.filter((p) => p.kind === 'no-data');
+      expect(hooked.map((p) => p.state)).toEqual(['raised', 'cleared']);
+      expect(hooked.map((p) => p.t)).toEqual([raised[0].t, cleared[0].t]);
     } finally {
+      srv.close();
       w.kill('SIGTERM');
       if (rec.child.exitCode === null) rec.child.kill('SIGKILL');
     }
