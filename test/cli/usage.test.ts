@@ -160,6 +160,30 @@ describe('import', () => {
     expect(existsSync(join(dir, 'never3.db'))).toBe(false);
   });
 
+  it('a frames file with a dropout: one gap, timed on the run\'s clock (also when the whole file is one read)', async () => {
+    const sc = join(dir, 'frames-scenario.json');
+    // invented: 400 s of frames with a 20 s dropout at 200 s; small enough to be decoded from a single read
+    writeFileSync(sc, JSON.stringify({
+      name: 'frames-gap', duration_s: 400, sample_rate_hz: 10, inertia_kg_m2: 8e-8, kappa_Nm_per_rad: 7.9e-9, q: 500, thermal_noise: false,
+      initial: { amplitude_rad: 0.003 }, dropouts: [{ t_s: 200, duration_s: 20 }],
+      output: { format: 'frames', channels: [{ role: 'angle_rad', scale: 1e-9 }] },
+    }));
+    const bin = join(dir, 'frames-gap.bin');
+    const sim = runCli(['simulate', '--scenario', sc, '--device', bin, '--speed', '0', '--seed', '2']);
+    expect(sim.status, sim.stderr).toBe(0);
+    const st = join(dir, 'station-frames.json');
+    writeFileSync(st, JSON.stringify({ station: 'bench-f', fibre: { name: 'f' }, input: { format: 'frames', channels: [{ role: 'angle_rad', scale: 1e-9 }] }, alerts: { stderr: false } }));
+    const db = join(dir, 'frames.db');
+    const imp = runCli(['import', bin, '--station', st, '--db', db, '--started-at', '2026-01-01T00:00:00Z', '--json']);
+    expect(imp.status, imp.stderr).toBe(0);
+    const evs = JSON.parse(runCli(['events', '1', '--db', db, '--json']).stdout) as { kind: string; t_s: number; t: string }[];
+    const gaps = evs.filter((e) => e.kind === 'gap');
+    expect(gaps).toHaveLength(1);
+    expect(Math.abs(gaps[0].t_s - 200)).toBeLessThan(1);
+    expect(gaps[0].t.startsWith('2026-01-01T00:03:')).toBe(true);
+    expect(JSON.parse(imp.stdout).gaps).toBe(1);
+  });
+
   it('a file that decodes to no samples: exit 2, and no empty run is left in the store', () => {
     const db = join(dir, 'nothing.db');
     const ok = runCli(['import', rec, '--station', stationFile, '--db', db, '--started-at', '2026-01-01T00:00:00Z', '--json']);
