@@ -10,6 +10,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { runCli, runCliAsync, type CliResult } from '../helpers/cli.js';
 import { buildStore, W25, type FixtureRun } from './store-fixture.js';
+import { WINDOW_COLUMNS } from '../../src/cli/commands/windows.js';
 
 let dir: string;
 let db: string;
@@ -252,6 +253,8 @@ describe('windows', () => {
     const lines = r.stdout.trimEnd().split('\n');
     const header = lines[0].split(',');
     expect(header).toEqual(Object.keys(ws[0]));
+    // the header a run without windows gets is the same
+    expect(header).toEqual(WINDOW_COLUMNS);
     expect(lines.length - 1).toBe(ws.length);
     const iP = header.indexOf('period_s');
     const iT = header.indexOf('t_mid');

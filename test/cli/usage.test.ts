@@ -4,7 +4,7 @@
  * culprit), `import` dating and warnings, `simulate` to stdout, `ports`.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { runCli, runCliAsync, type CliResult } from '../helpers/cli.js';
@@ -182,6 +182,27 @@ describe('import', () => {
     expect(Math.abs(gaps[0].t_s - 200)).toBeLessThan(1);
     expect(gaps[0].t.startsWith('2026-01-01T00:03:')).toBe(true);
     expect(JSON.parse(imp.stdout).gaps).toBe(1);
+  });
+
+  it('a run too short for a window: show, windows and export say so plainly', () => {
+    const short = join(dir, 'short.txt');
+    writeFileSync(short, readFileSync(rec, 'utf8').split('\n').slice(0, 60).join('\n') + '\n');
+    const db = join(dir, 'short.db');
+    const imp = runCli(['import', short, '--station', stationFile, '--db', db, '--started-at', '2026-01-01T00:00:00Z', '--json']);
+    expect(imp.status, imp.stderr).toBe(0);
+    const s = JSON.parse(imp.stdout);
+    expect(s.windows).toBe(0);
+    expect(s.period_s).toBeNull();
+    const human = runCli(['windows', '1', '--db', db]);
+    expect(human.status).toBe(0);
+    expect(human.stdout).toBe('');
+    expect(human.stderr).toMatch(/no windows yet/);
+    expect(JSON.parse(runCli(['windows', '1', '--db', db, '--json']).stdout)).toEqual([]);
+    const header = runCli(['windows', '1', '--db', db, '--csv']).stdout.trimEnd().split('\n');
+    expect(header).toHaveLength(1);
+    expect(header[0].split(',')).toContain('period_sigma_s');
+    expect(runCli(['export', '1', '--what', 'windows', '--format', 'csv', '--db', db]).stdout).toBe(header[0] + '\n');
+    expect(runCli(['show', '1', '--db', db]).stdout).toMatch(/period\s+—\n/);
   });
 
   it('a file that decodes to no samples: exit 2, and no empty run is left in the store', () => {

@@ -12,18 +12,10 @@ import { listWindows } from '../../../db/windows-store.js';
 import { RuntimeError } from '../errors.js';
 import { csv } from '../format.js';
 import { openForQuery } from '../store.js';
-import { windowRows } from './windows.js';
+import { WINDOW_COLUMNS, windowRows } from './windows.js';
 
 /** Columns of an events export, in order (CONTRACT.md's event fields, then state and data). */
 const EVENT_COLUMNS = ['t', 't_s', 'kind', 'severity', 'message', 'value', 'threshold', 'state', 'data'];
-/** Columns of a windows export when the run has none yet (the same as a stored window's). */
-const WINDOW_COLUMNS = [
-  'index', 't_start_s', 't_mid_s', 't_end_s', 'samples', 'status', 'period_s', 'period_sigma_s', 'decay_time_s', 'decay_time_sigma_s',
-  'q', 'q_sigma', 'amplitude_rad', 'amplitude_sigma_rad', 'equilibrium_rad', 'equilibrium_sigma_rad', 'drift_rad_per_s',
-  'drift_sigma_rad_per_s', 'phase_rad', 'residual_rms_rad', 'chi2_red', 'kappa_Nm_per_rad', 'kappa_sigma_Nm_per_rad',
-  'shear_modulus_Pa', 'shear_modulus_sigma_Pa', 'temp_C', 't_mid',
-];
-
 /** The reader went away (`… | head`): stop quietly, as command-line tools do. */
 class ReaderGone extends Error {}
 

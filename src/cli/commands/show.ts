@@ -23,7 +23,7 @@ export function renderSummary(s: ShowSummary): string {
     row('samples', `${s.samples}   windows ${s.windows} (${s.windows_ok} ok)   gaps ${s.gaps}   events ${s.events}`),
     row('period', withSigma(s.period_s, s.period_sigma_s, 's')),
     row('Q', withSigma(s.q, s.q_sigma)),
-    row('equilibrium rate', `${withSigma(perH(s.equilibrium_rate_rad_per_s), perH(s.equilibrium_rate_sigma_rad_per_s), 'rad/h')} (over the run)`),
+    row('equilibrium rate', `${withSigma(perH(s.equilibrium_rate_rad_per_s), perH(s.equilibrium_rate_sigma_rad_per_s), 'rad/h')}${s.equilibrium_rate_rad_per_s === null ? '' : ' (over the run)'}`),
   ];
   if (s.kappa_Nm_per_rad !== undefined) lines.push(row('κ', withSigma(s.kappa_Nm_per_rad, s.kappa_sigma_Nm_per_rad, 'N·m/rad')));
   if (s.shear_modulus_Pa !== undefined) {

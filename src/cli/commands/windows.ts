@@ -6,6 +6,14 @@ import { RuntimeError, UsageError } from '../errors.js';
 import { csv, table, withSigma, fmt } from '../format.js';
 import { withQueryStore } from '../store.js';
 
+/** Columns of a window row, in order (used for the CSV header when a run has no windows yet). */
+export const WINDOW_COLUMNS = [
+  'index', 't_start_s', 't_mid_s', 't_end_s', 'samples', 'status', 'period_s', 'period_sigma_s', 'decay_time_s', 'decay_time_sigma_s',
+  'q', 'q_sigma', 'amplitude_rad', 'amplitude_sigma_rad', 'equilibrium_rad', 'equilibrium_sigma_rad', 'drift_rad_per_s',
+  'drift_sigma_rad_per_s', 'phase_rad', 'residual_rms_rad', 'chi2_red', 'kappa_Nm_per_rad', 'kappa_sigma_Nm_per_rad',
+  'shear_modulus_Pa', 'shear_modulus_sigma_Pa', 'temp_C', 't_mid',
+];
+
 /** Window rows as CONTRACT.md lists them: the fit fields plus `t_mid` (ISO) and `status`. */
 export function windowRows(ws: WindowResult[], startedAtMs: number): Record<string, unknown>[] {
   return ws.map((w) => ({ ...w, t_mid: new Date(startedAtMs + w.t_mid_s * 1000).toISOString() }));
@@ -20,8 +28,10 @@ export async function windowsCommand(run: number, opts: { db?: string; json?: bo
     if (opts.json) {
       process.stdout.write(JSON.stringify(rows, null, 2) + '\n');
     } else if (opts.csv) {
-      const keys = rows.length ? Object.keys(rows[0]) : ['index'];
+      const keys = rows.length ? Object.keys(rows[0]) : WINDOW_COLUMNS;
       process.stdout.write(csv(keys, rows.map((o) => keys.map((k) => o[k]))));
+    } else if (!rows.length) {
+      process.stderr.write(`run ${run}: no windows yet (a window needs analysis.window_periods periods of data)\n`);
     } else {
       process.stdout.write(table(
         ['#', 't_mid (UTC)', 'status', 'period', 'τ (s)', 'Q', 'equilibrium (rad)', 'amplitude (rad)'],
