@@ -29,12 +29,20 @@ export function insertWindows(db: Database, runId: number, rows: readonly Window
   })();
 }
 
+function toResult(r: Record<string, unknown> & { idx: number }): WindowResult {
+  const w = { index: r.idx } as Record<string, unknown>;
+  for (const f of FIELDS) w[f] = r[f];
+  return w as unknown as WindowResult;
+}
+
 /** A run's window results in index order. */
 export function listWindows(db: Database, runId: number): WindowResult[] {
   const rows = db.prepare(`SELECT idx, ${FIELDS.join(', ')} FROM windows WHERE run_id = ? ORDER BY idx`).all(runId) as (Record<string, unknown> & { idx: number })[];
-  return rows.map((r) => {
-    const w = { index: r.idx } as Record<string, unknown>;
-    for (const f of FIELDS) w[f] = r[f];
-    return w as unknown as WindowResult;
-  });
+  return rows.map(toResult);
+}
+
+/** The same, one row at a time (a week-long run has ten thousand windows). Finish the iteration before writing on this connection. */
+export function* iterateWindows(db: Database, runId: number): Generator<WindowResult> {
+  const stmt = db.prepare(`SELECT idx, ${FIELDS.join(', ')} FROM windows WHERE run_id = ? ORDER BY idx`);
+  for (const r of stmt.iterate(runId) as Iterable<Record<string, unknown> & { idx: number }>) yield toResult(r);
 }

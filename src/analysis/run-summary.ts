@@ -71,42 +71,53 @@ export function weightedSlope(x: number[], y: number[], s: number[], overlap = 1
   return { slope: b, sigma: Math.sqrt((overlap * S) / D) * Math.max(1, birge) };
 }
 
-/** Summarise a run's windows; `overlap` = window_periods / step_periods. */
-export function summariseWindows(ws: WindowResult[], overlap = 1): RunSummaryNumbers {
-  const ok = ws.filter((w) => w.status === 'ok');
-  const pick = (f: (w: WindowResult) => number | null, g: (w: WindowResult) => number | null) => {
-    const v: number[] = [], s: number[] = [];
-    for (const w of ok) {
-      const a = f(w), b = g(w);
-      if (a !== null && b !== null && Number.isFinite(a) && Number.isFinite(b)) { v.push(a); s.push(b); }
-    }
-    return weightedMean(v, s, Math.max(1, overlap));
+/**
+ * Summarise a run's windows; `overlap` = window_periods / step_periods. Takes
+ * any iterable (e.g. rows streamed from the store) and keeps only the numbers
+ * it needs, so a week-long run's windows never sit in memory as objects.
+ */
+export function summariseWindows(ws: Iterable<WindowResult>, overlap = 1): RunSummaryNumbers & { t_end_s: number | null } {
+  const pairs = () => ({ v: [] as number[], s: [] as number[] });
+  const period = pairs(), q = pairs(), kappa = pairs(), g = pairs();
+  const x: number[] = [], y: number[] = [], sy: number[] = [];
+  const put = (p: { v: number[]; s: number[] }, a: number | null, b: number | null) => {
+    if (a !== null && b !== null && Number.isFinite(a) && Number.isFinite(b)) { p.v.push(a); p.s.push(b); }
   };
-  const period = pick((w) => w.period_s, (w) => w.period_sigma_s);
-  const q = pick((w) => w.q, (w) => w.q_sigma);
-  const kappa = pick((w) => w.kappa_Nm_per_rad, (w) => w.kappa_sigma_Nm_per_rad);
-  const g = pick((w) => w.shear_modulus_Pa, (w) => w.shear_modulus_sigma_Pa);
-  const x: number[] = [], y: number[] = [], s: number[] = [];
-  for (const w of ok) {
+  let windows = 0, ok = 0;
+  let amplitude: number | null = null;
+  let tEnd: number | null = null;
+  for (const w of ws) {
+    windows++;
+    tEnd = w.t_end_s;
+    if (w.status !== 'ok') continue;
+    ok++;
+    put(period, w.period_s, w.period_sigma_s);
+    put(q, w.q, w.q_sigma);
+    put(kappa, w.kappa_Nm_per_rad, w.kappa_sigma_Nm_per_rad);
+    put(g, w.shear_modulus_Pa, w.shear_modulus_sigma_Pa);
     if (w.equilibrium_rad !== null && w.equilibrium_sigma_rad !== null) {
-      x.push(w.t_mid_s); y.push(w.equilibrium_rad); s.push(w.equilibrium_sigma_rad);
+      x.push(w.t_mid_s); y.push(w.equilibrium_rad); sy.push(w.equilibrium_sigma_rad);
     }
+    if (w.amplitude_rad !== null) amplitude = w.amplitude_rad;
   }
-  const rate = weightedSlope(x, y, s, Math.max(1, overlap));
-  const amps = ok.map((w) => w.amplitude_rad).filter((a): a is number => a !== null);
+  const o = Math.max(1, overlap);
+  const P = weightedMean(period.v, period.s, o), Q = weightedMean(q.v, q.s, o);
+  const K = weightedMean(kappa.v, kappa.s, o), G = weightedMean(g.v, g.s, o);
+  const rate = weightedSlope(x, y, sy, o);
   return {
-    windows: ws.length,
-    windows_ok: ok.length,
-    period_s: period?.mean ?? null,
-    period_sigma_s: period?.sigma ?? null,
-    q: q?.mean ?? null,
-    q_sigma: q?.sigma ?? null,
-    kappa_Nm_per_rad: kappa?.mean ?? null,
-    kappa_sigma_Nm_per_rad: kappa?.sigma ?? null,
-    shear_modulus_Pa: g?.mean ?? null,
-    shear_modulus_sigma_Pa: g?.sigma ?? null,
+    windows,
+    windows_ok: ok,
+    period_s: P?.mean ?? null,
+    period_sigma_s: P?.sigma ?? null,
+    q: Q?.mean ?? null,
+    q_sigma: Q?.sigma ?? null,
+    kappa_Nm_per_rad: K?.mean ?? null,
+    kappa_sigma_Nm_per_rad: K?.sigma ?? null,
+    shear_modulus_Pa: G?.mean ?? null,
+    shear_modulus_sigma_Pa: G?.sigma ?? null,
     equilibrium_rate_rad_per_s: rate?.slope ?? null,
     equilibrium_rate_sigma_rad_per_s: rate?.sigma ?? null,
-    amplitude_rad: amps.length ? amps[amps.length - 1] : null,
+    amplitude_rad: amplitude,
+    t_end_s: tEnd,
   };
 }

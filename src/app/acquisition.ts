@@ -50,10 +50,11 @@ export class Acquisition {
 
   /** A decoder result (from `bytes`, or from a file replay that drives the decoder itself). */
   handle(r: DecodeResult): void {
-    for (const inc of r.incidents) this.session.incident(inc);
+    // blocks first: the first one fixes the run's time origin, which the incidents' times need
     for (const raw of r.blocks) {
       const ab = this.session.ingest(this.convert(raw));
       this.sink?.push(ab);
     }
+    for (const inc of r.incidents) this.session.incident(inc);
   }
 }

@@ -1,7 +1,7 @@
 /** The `show` summary of one run, from what the store holds so far. */
 import type Database from 'better-sqlite3';
 import { getRun } from '../../db/runs.js';
-import { listWindows } from '../../db/windows-store.js';
+import { iterateWindows } from '../../db/windows-store.js';
 import { countEvents, listEvents } from '../../db/events-store.js';
 import { summariseWindows } from '../analysis/run-summary.js';
 import { RuntimeError } from '../cli/errors.js';
@@ -38,13 +38,12 @@ export interface ShowSummary {
 export function buildSummary(db: Database.Database, runId: number): ShowSummary {
   const run = getRun(db, runId);
   if (!run) throw new RuntimeError(`run ${runId}: no such run in this store`);
-  const ws = listWindows(db, runId);
   let overlap = 4;
   try {
     const cfg = run.station_config as { analysis?: { window_periods: number; step_periods: number } } | null;
     if (cfg?.analysis) overlap = cfg.analysis.window_periods / cfg.analysis.step_periods;
   } catch { /* default overlap */ }
-  const s = summariseWindows(ws, overlap);
+  const s = summariseWindows(iterateWindows(db, runId), overlap);
   const alerts = latestAlertStates(listEvents(db, runId));
   const out: ShowSummary = {
     run: run.run,
@@ -56,7 +55,7 @@ export function buildSummary(db: Database.Database, runId: number): ShowSummary 
     source: run.source ?? null,
     samples: run.samples,
     // the span from start to end; a run still open: up to its last window so far
-    duration_s: run.ended_at_ms !== null ? (run.ended_at_ms - run.started_at_ms) / 1000 : lastTime(ws),
+    duration_s: run.ended_at_ms !== null ? (run.ended_at_ms - run.started_at_ms) / 1000 : s.t_end_s,
     windows: s.windows,
     windows_ok: s.windows_ok,
     gaps: countEvents(db, runId, 'gap'),
@@ -81,9 +80,6 @@ export function buildSummary(db: Database.Database, runId: number): ShowSummary 
   return out;
 }
 
-function lastTime(ws: { t_end_s: number }[]): number | null {
-  return ws.length ? ws[ws.length - 1].t_end_s : null;
-}
 
 /** The last state of each alert kind that went through a life cycle. */
 function latestAlertStates(events: { kind: string; state?: string | null; t: string; message: string }[]) {

@@ -48,7 +48,10 @@ export function buildProgram(): Command {
   const p = new Command('fibrewatch')
     .description('Acquisition, analysis and drift watch for torsion balances')
     .version(process.env.npm_package_version ?? '0.1.0')
-    .showHelpAfterError('(run with --help for usage)');
+    .showHelpAfterError('(run with --help for usage)')
+    // set before the subcommands exist, so they inherit it: usage errors exit 2 (CONTRACT.md), not commander's 1
+    .exitOverride()
+    .configureOutput({ writeErr: (s) => process.stderr.write(s) });
 
   p.command('demo')
     .description('run a virtual balance with a scripted story through the real acquisition path into a fresh store')
@@ -172,8 +175,6 @@ export async function main(argv: string[]): Promise<void> {
     throw e;
   });
   const program = buildProgram();
-  program.exitOverride();
-  program.configureOutput({ writeErr: (s) => process.stderr.write(s) });
   try {
     await program.parseAsync(argv);
   } catch (e) {
