@@ -7,6 +7,7 @@
 import { readFileSync } from 'node:fs';
 import { z } from 'zod';
 import { TIME_ROLES, VALUE_ROLES, type ColumnRole, type ValueRole } from '../../src/config/block.js';
+import { firstIssue } from '../../src/config/first-issue.js';
 import { inertiaFromParts, InertiaPartError } from '../../src/physics/inertia.js';
 import { lookupMaterial, materialNames } from '../../src/physics/materials.js';
 import { kappaRound, kappaRibbon } from '../../src/physics/torsion.js';
@@ -189,28 +190,12 @@ export function sensorRoles(kind: Scenario['sensor']['kind']): ValueRole[] {
 export function parseScenario(value: unknown, source = 'scenario'): Scenario {
   const r = scenarioSchema.safeParse(value);
   if (!r.success) {
-    const issue = r.error.issues[0];
-    const field = issue.path.map((p) => (typeof p === 'number' ? `[${p}]` : String(p))).join('.').replace(/\.\[/g, '[');
-    if (issue.code === 'unrecognized_keys') {
-      const keys = (issue as { keys: string[] }).keys;
-      const where = field ? `${field}.` : '';
-      throw new ScenarioError(`${source}: ${where}${keys[0]}: unknown field`, `${where}${keys[0]}`);
-    }
-    let msg = issue.message;
-    if (issue.code === 'invalid_type' && valueAt(value, issue.path) === undefined) msg = 'is required';
-    throw new ScenarioError(`${source}: ${field || '(top level)'}: ${msg}`, field);
+    const f = firstIssue(r.error, value);
+    throw new ScenarioError(`${source}: ${f.text}`, f.field);
   }
   return resolve(r.data, source);
 }
 
-function valueAt(root: unknown, path: PropertyKey[]): unknown {
-  let v: unknown = root;
-  for (const k of path) {
-    if (v === null || typeof v !== 'object') return undefined;
-    v = (v as Record<PropertyKey, unknown>)[k];
-  }
-  return v;
-}
 
 /** Cross-field rules and derived quantities. */
 function resolve(s: Parsed, source: string): Scenario {

@@ -6,6 +6,7 @@
 import { readFileSync } from 'node:fs';
 import { z } from 'zod';
 import { TIME_ROLES, VALUE_ROLES } from './block.js';
+import { firstIssue } from './first-issue.js';
 
 const pos = (what = 'must be > 0') => z.number(what === 'must be > 0' ? 'must be a number' : what).positive(what);
 const finite = () => z.number('must be a number').finite('must be finite');
@@ -166,28 +167,12 @@ export class StationError extends Error {
 export function parseStation(value: unknown, source = 'station'): Station {
   const r = stationSchema.safeParse(value);
   if (!r.success) {
-    const issue = r.error.issues[0];
-    const field = issue.path.map((p) => (typeof p === 'number' ? `[${p}]` : String(p))).join('.').replace(/\.\[/g, '[');
-    let msg = issue.message;
-    if (issue.code === 'unrecognized_keys') {
-      const keys = (issue as { keys: string[] }).keys;
-      const where = field ? `${field}.` : '';
-      throw new StationError(`${source}: ${where}${keys[0]}: unknown field`, `${where}${keys[0]}`);
-    }
-    if (issue.code === 'invalid_type' && valueAt(value, issue.path) === undefined) msg = 'is required';
-    throw new StationError(`${source}: ${field || '(top level)'}: ${msg}`, field);
+    const f = firstIssue(r.error, value);
+    throw new StationError(`${source}: ${f.text}`, f.field);
   }
   return crossCheck(r.data, source);
 }
 
-function valueAt(root: unknown, path: PropertyKey[]): unknown {
-  let v: unknown = root;
-  for (const k of path) {
-    if (v === null || typeof v !== 'object') return undefined;
-    v = (v as Record<PropertyKey, unknown>)[k];
-  }
-  return v;
-}
 
 /** Rules that span fields. */
 function crossCheck(s: Station, source: string): Station {
