@@ -1,36 +1,24 @@
 /** The one-shot fit of a recorded file as a single window (`fibrewatch fit`). */
 import type { Station } from '../config/station.js';
+import type { WindowResult } from '../config/results.js';
 import { FLAG_INVALID, FLAG_SATURATED } from '../config/block.js';
 import { analyseWindow } from '../analysis/window-analysis.js';
 import { readRecording } from './read-recording.js';
 import { deriveContextFor, twistLimitFor } from './derive-context.js';
 
-export interface FileFit {
+/** The fitted numbers of CONTRACT.md's `fit` output, as a window stores them. */
+type FitNumbers = Pick<WindowResult,
+  'period_s' | 'period_sigma_s' | 'decay_time_s' | 'decay_time_sigma_s' | 'q' | 'q_sigma' | 'amplitude_rad' | 'amplitude_sigma_rad'
+  | 'equilibrium_rad' | 'equilibrium_sigma_rad' | 'drift_rad_per_s' | 'drift_sigma_rad_per_s' | 'phase_rad' | 'residual_rms_rad' | 'chi2_red'>;
+
+/** One `fit` line: the fit, plus κ and G when the station gives inertia (and fibre). */
+export interface FileFit extends FitNumbers, Partial<Pick<WindowResult, 'kappa_Nm_per_rad' | 'kappa_sigma_Nm_per_rad' | 'shear_modulus_Pa' | 'shear_modulus_sigma_Pa'>> {
   file: string;
   status: string;
   samples: number;
   samples_masked: number;
   bad_records: number;
   t_mid_s: number | null;
-  period_s: number | null;
-  period_sigma_s: number | null;
-  decay_time_s: number | null;
-  decay_time_sigma_s: number | null;
-  q: number | null;
-  q_sigma: number | null;
-  amplitude_rad: number | null;
-  amplitude_sigma_rad: number | null;
-  equilibrium_rad: number | null;
-  equilibrium_sigma_rad: number | null;
-  drift_rad_per_s: number | null;
-  drift_sigma_rad_per_s: number | null;
-  phase_rad: number | null;
-  residual_rms_rad: number | null;
-  chi2_red: number | null;
-  kappa_Nm_per_rad?: number | null;
-  kappa_sigma_Nm_per_rad?: number | null;
-  shear_modulus_Pa?: number | null;
-  shear_modulus_sigma_Pa?: number | null;
   /** largest excursion from equilibrium in the record, rad, and the fibre's elastic limit */
   max_twist_rad: number | null;
   twist_limit_rad?: number;
