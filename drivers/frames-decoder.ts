@@ -235,7 +235,8 @@ export class FramesDecoder implements Decoder {
       t: this.lastT,
       hostMs,
       message: `${lost} frame${lost === 1 ? '' : 's'} lost (sequence ${this.lastSeq} → ${(this.lastSeq + lostSeq + 1) & 0xffff}), about ${duration.toPrecision(3)} s`,
-      value: lost,
+      // every gap's value is its duration in seconds; the frame count is in data
+      value: duration,
       data: { lost_frames: lost, duration_s: duration, t_end: t },
     });
   }

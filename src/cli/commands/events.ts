@@ -32,7 +32,7 @@ export function valueUnit(e: Pick<EventListing, 'kind' | 'data'>): string {
   const d = e.data ?? {};
   if (typeof d.unit === 'string') return d.unit;
   switch (e.kind) {
-    case 'gap': return d.lost_frames !== undefined ? 'frames' : 's';
+    case 'gap': return 's';
     case 'reconnect': case 'no-data': case 'clock-note': return 's';
     case 'bad-input': return 'records';
     default: return '';
