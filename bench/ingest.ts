@@ -95,7 +95,7 @@ export async function benchIngest(): Promise<Record<string, number>> {
     // peak memory of the real command on the 10 M-sample lines file
     const stationFile = join(dir, 'station.json');
     writeFileSync(stationFile, JSON.stringify({ station: 'bench', fibre: { name: 'bench-fibre' }, input: { format: 'lines', columns: ['t_s', 'angle_rad'] }, sensor: { kind: 'angle' } }));
-    const bin = fileURLToPath(new URL('../../bin/fibrewatch.js', import.meta.url));
+    const bin = fileURLToPath(new URL('../bin/fibrewatch.js', import.meta.url));
     const t0 = performance.now();
     const r = spawnSync(process.execPath, [bin, 'import', linesFile, '--station', stationFile, '--db', join(dir, 'cmd.db'), '--started-at', '2026-01-01T00:00:00Z', '--json'], {
       env: { ...process.env, FIBREWATCH_REPORT_RSS: '1' }, encoding: 'utf8', maxBuffer: 1 << 26,
