@@ -84,8 +84,8 @@ export function makeLiveSink(station: Station, session: RunSession, opts: LiveSi
 
 /**
  * Pipeline and watcher incidents carry times on the run's time base (the
- * blocks were rebased by the session); the session expects the samples' own
- * base, so mark them as run time by leaving `t` for incidentAt.
+ * session rebased the blocks before the pipeline saw them), not on the
+ * samples' own clock: say so, so the session does not subtract the origin again.
  */
 function runTimeIncident(inc: Incident): Incident & { runTime: true } {
   return { ...inc, runTime: true };
