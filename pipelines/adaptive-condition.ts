@@ -8,7 +8,7 @@
 import { Observable, Subject } from 'rxjs';
 import { FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../src/config/block.js';
 import { periodSeed } from '../src/analysis/period-seed.js';
-import { chooseDecimationFactor, medianInterval } from '../src/analysis/decimate.js';
+import { chooseDecimationFactor, Decimator, medianInterval } from '../src/analysis/decimate.js';
 import { condition } from './condition.js';
 
 export interface AdaptiveConditionOptions {
@@ -19,6 +19,8 @@ export interface AdaptiveConditionOptions {
   firstEstimate_s?: number;
   /** called once with the first period estimate and the chosen factor */
   onFirstEstimate?: (period_s: number, factor: number) => void;
+  /** called once the factor is fixed, with the standard-error scale of fits on the decimated samples (Decimator.whiteNoiseSigmaFactor) */
+  onFactor?: (factor: number, sigmaFactor: number) => void;
   /** most samples held while waiting (default 2 000 000): then conditioning starts undecimated */
   maxHeld?: number;
 }
@@ -61,6 +63,7 @@ export function adaptiveCondition(opts: AdaptiveConditionOptions): (source: Obse
         const dt = medianInterval(held.length ? held[0].t.subarray(0, held[0].n) : new Float64Array(0)) ?? 0;
         const factor = period && dt > 0 ? chooseDecimationFactor(period, dt, opts.samplesPerPeriod) : 1;
         if (period) opts.onFirstEstimate?.(period, factor);
+        opts.onFactor?.(factor, factor > 1 ? new Decimator({ factor, sampleInterval_s: dt }).whiteNoiseSigmaFactor() : 1);
         inner = new Subject<AngleBlock>();
         inner.pipe(condition({ factor })).subscribe(subscriber);
         for (const b of held) inner.next(b);

@@ -12,6 +12,8 @@ import type { PeriodTracker } from './period-tracker.js';
 export interface AnalyseOptions extends WindowAnalysisOptions {
   /** updated with every accepted period */
   tracker?: PeriodTracker;
+  /** current standard-error scale (decimation); read per window because it is fixed only after the first estimate */
+  sigmaScaleNow?: () => number;
 }
 
 /**
@@ -36,7 +38,7 @@ export function analyse(opts: AnalyseOptions = {}): (source: Observable<WindowDa
               exclude[i] = w.mask[i] ? 0 : 1;
               seedExclude[i] = Number.isFinite(w.y[i]) ? 0 : 1;
             }
-            r = analyseWindow({ index: w.index, t: w.t, y: w.y, mask: exclude, seedMask: seedExclude, temp: w.temp, t_start_s: w.t_start_s, t_end_s: w.t_end_s, periodHint_s: w.periodHint_s }, opts).result;
+            r = analyseWindow({ index: w.index, t: w.t, y: w.y, mask: exclude, seedMask: seedExclude, temp: w.temp, t_start_s: w.t_start_s, t_end_s: w.t_end_s, periodHint_s: w.periodHint_s }, { ...opts, sigmaScale: opts.sigmaScaleNow?.() }).result;
             if (r.status === 'ok' && r.period_s !== null) opts.tracker?.update(r.period_s);
           } catch (e) {
             r = emptyResult(w, `error: ${(e as Error).message}`.slice(0, 200), w.y.length);

@@ -39,6 +39,8 @@ export interface Pipeline {
 export function analysisPipeline(blocks$: Observable<AngleBlock>, opts: PipelineOptions): Pipeline {
   const a = opts.analysis;
   const tracker = new PeriodTracker(a.period_guess_s);
+  // fits on low-passed, decimated samples see band-limited noise: their standard errors are scaled up (see decimate.ts)
+  const noise = { sigmaFactor: 1 };
   const cleaned$ = blocks$.pipe(
     fillHoles(),
     clean({ hampelHalfWidth: a.hampel_half_width, hampelThreshold: a.hampel_threshold, hampelMinScale_rad: opts.quantum_rad }),
@@ -54,9 +56,12 @@ export function analysisPipeline(blocks$: Observable<AngleBlock>, opts: Pipeline
         tracker.seed(p);
         opts.onFirstEstimate?.(p, m);
       },
+      onFactor: (_m, f) => {
+        noise.sigmaFactor = f;
+      },
     }),
     slidingWindows({ windowPeriods: a.window_periods, stepPeriods: a.step_periods, period$: () => tracker.current }),
-    analyse({ derive: opts.derive, tracker }),
+    analyse({ derive: opts.derive, tracker, sigmaScaleNow: () => noise.sigmaFactor }),
     share(),
   );
   return { cleaned$, windows$ };

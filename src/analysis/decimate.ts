@@ -137,6 +137,28 @@ export class Decimator {
     }
   }
 
+  /**
+   * By how much a fit on the decimated samples underestimates its standard
+   * errors when the input noise is white, and so the factor to scale them by.
+   * The fit takes its residuals for white noise spread over the whole output
+   * band (0 … fs/(2M)); after the low-pass they only fill the filter's band,
+   * so the noise density at the swing (in the passband) is higher than the
+   * fit assumes. Per output sample the filter keeps σ²·Σh² of white input
+   * noise σ²; the density at the swing is σ²·2/fs_in against the assumed
+   * σ²·Σh²·2M/fs_in, so variances are low by 1/(M·Σh²) (≈ 1/cutoffFraction
+   * for a sharp filter). 1 for factor 1.
+   */
+  whiteNoiseSigmaFactor(): number {
+    if (!this.filter) return 1;
+    const f = new BiquadCascade(this.sections);
+    let e = 0;
+    for (let n = 0; n < this.support * 4 + 64; n++) {
+      const h = f.step(n === 0 ? 1 : 0);
+      e += h * h;
+    }
+    return Math.sqrt(1 / (this.factor * e));
+  }
+
   /** |H(f)| of the anti-alias filter at f_Hz (1 for factor 1). */
   passbandGain(f_Hz: number): number {
     return this.filter ? biquadResponse(this.sections, f_Hz, 1 / this.sampleInterval_s).magnitude : 1;

@@ -31,6 +31,8 @@ export interface WindowAnalysisOptions {
   derive?: DeriveContext;
   /** least number of periods in a window (default 1.5) */
   minPeriods?: number;
+  /** multiply every standard uncertainty by this (band-limited noise after decimation; default 1) */
+  sigmaScale?: number;
   /** gain of the anti-alias filter at the oscillation frequency: the amplitude is divided by it (default none) */
   gainAt?: (frequency_hz: number) => number;
 }
@@ -45,6 +47,11 @@ const NUMBERS = [
   'period_s', 'period_sigma_s', 'decay_time_s', 'decay_time_sigma_s', 'q', 'q_sigma', 'amplitude_rad', 'amplitude_sigma_rad',
   'equilibrium_rad', 'equilibrium_sigma_rad', 'drift_rad_per_s', 'drift_sigma_rad_per_s', 'phase_rad', 'residual_rms_rad',
   'chi2_red', 'kappa_Nm_per_rad', 'kappa_sigma_Nm_per_rad', 'shear_modulus_Pa', 'shear_modulus_sigma_Pa',
+] as const;
+
+const SIGMAS = [
+  'period_sigma_s', 'decay_time_sigma_s', 'q_sigma', 'amplitude_sigma_rad', 'equilibrium_sigma_rad',
+  'drift_sigma_rad_per_s', 'kappa_sigma_Nm_per_rad', 'shear_modulus_sigma_Pa',
 ] as const;
 
 /** A result with every fitted number null (for rejected windows). */
@@ -86,5 +93,12 @@ export function analyseWindow(w: WindowSamples, opts: WindowAnalysisOptions = {}
     kappa_Nm_per_rad: d.kappa_Nm_per_rad, kappa_sigma_Nm_per_rad: d.kappa_sigma_Nm_per_rad,
     shear_modulus_Pa: d.shear_modulus_Pa, shear_modulus_sigma_Pa: d.shear_modulus_sigma_Pa,
   });
+  const k = opts.sigmaScale ?? 1;
+  if (k !== 1) {
+    for (const f of SIGMAS) {
+      const v = r[f];
+      if (v !== null) (r as unknown as Record<string, number>)[f] = v * k;
+    }
+  }
   return { result: r, fit };
 }

@@ -100,7 +100,7 @@ const analysisSchema = z.strictObject({
   window_periods: pos().default(4),
   step_periods: pos().default(1),
   /** decimate to about this many samples per period before fitting */
-  samples_per_period: pos().default(20),
+  samples_per_period: pos().default(40),
   /** seconds of data for the first FFT period estimate */
   first_estimate_s: pos().optional(),
   /** a prior on the period, if known (speeds the first estimate) */

@@ -51,7 +51,7 @@ describe('defaults', () => {
     expect(s.sensor).toEqual({ kind: 'angle' });
     expect(s.pendulum).toEqual({});
     expect(s.input).toEqual({ baud: 115200, format: 'lines', separator: ',', reconnect: { min_delay_s: 0.25, max_delay_s: 10 } });
-    expect(s.analysis).toEqual({ window_periods: 4, step_periods: 1, samples_per_period: 20, hampel_half_width: 5, hampel_threshold: 5 });
+    expect(s.analysis).toEqual({ window_periods: 4, step_periods: 1, samples_per_period: 40, hampel_half_width: 5, hampel_threshold: 5 });
     expect(s.alerts).toEqual({
       equilibrium_rate_rad_per_hour: 5e-6, period_change_ppm: 300, no_data_s: 20, horizon_h: 6, twist_fraction: 0.5, stderr: true,
     });

@@ -94,6 +94,7 @@ describe('record of the simulator through a pseudo-terminal', () => {
     const nEff = (n * station.analysis.step_periods) / station.analysis.window_periods;
     expect(nEff).toBeGreaterThan(60);
     expect(Math.abs(mean), `pull mean ${mean} over ${n} windows`).toBeLessThan(3 / Math.sqrt(nEff));
+    console.log(`pulls: mean ${mean}, SD ${sd}, n ${n}`);
     expect(sd, `pull SD ${sd}`).toBeGreaterThan(0.7);
     expect(sd, `pull SD ${sd}`).toBeLessThan(1.4);
 
