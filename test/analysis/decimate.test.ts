@@ -2,6 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE } from '../../src/config/block.js';
 import { biquadResponse } from '../../src/analysis/biquad.js';
 import { Decimator, chooseDecimationFactor, medianInterval } from '../../src/analysis/decimate.js';
+import { fitDampedSine } from '../../src/analysis/damped-sine.js';
+import { gaussianRng } from '../../src/analysis/gaussian-rng.js';
 
 /** Seeded uniform numbers in [0, 1) (mulberry32). */
 function rng(seed: number): () => number {
@@ -171,6 +173,34 @@ describe('Decimator', () => {
     }
     expect(spiked).toBe(1);
     expect(invalid).toBe(1);
+  });
+
+  it('whiteNoiseSigmaFactor makes the standard errors of fits on decimated white noise honest (Monte Carlo)', () => {
+    // a swing in white readout noise, decimated to 40 samples per period, 4-period windows:
+    // the fit's own σ, scaled, must match the scatter over independent realisations
+    const fs = 20, T = 60, M = 30, N = 20 * 480;
+    const rng = gaussianRng(11);
+    const per: number[] = [], sig: number[] = [];
+    const dec0 = new Decimator({ factor: M, sampleInterval_s: 1 / fs });
+    const k = dec0.whiteNoiseSigmaFactor();
+    // ≈ 1/√cutoffFraction for a sharp filter (cutoff 0.4 of the output Nyquist frequency)
+    expect(k).toBeGreaterThan(1.5);
+    expect(k).toBeLessThan(1.65);
+    for (let r = 0; r < 150; r++) {
+      const t = new Float64Array(N), y = new Float64Array(N);
+      for (let i = 0; i < N; i++) { t[i] = i / fs; y[i] = 1e-3 * Math.cos((2 * Math.PI * t[i]) / T + 0.3) + 1e-5 * rng.normal(); }
+      const d = new Decimator({ factor: M, sampleInterval_s: 1 / fs }).process(t, y, new Uint8Array(N));
+      const a = d.t.findIndex((x) => x >= 240); // past the filter's settling
+      const f = fitDampedSine(d.t.slice(a), d.y.slice(a));
+      if (f.status === 'ok') { per.push(f.period_s!); sig.push(f.period_sigma_s! * k); }
+    }
+    const mean = per.reduce((x, v) => x + v, 0) / per.length;
+    const sd = Math.sqrt(per.reduce((x, v) => x + (v - mean) ** 2, 0) / (per.length - 1));
+    const reported = sig.reduce((x, v) => x + v, 0) / sig.length;
+    expect(per.length).toBeGreaterThan(140);
+    // the SD of 150 draws is itself uncertain by ~6 %: allow 20 %
+    expect(sd / reported).toBeGreaterThan(0.8);
+    expect(sd / reported).toBeLessThan(1.2);
   });
 
   it('restarts after a gap: output after the gap equals a fresh run on the data after it', () => {
