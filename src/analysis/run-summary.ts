@@ -23,8 +23,9 @@ export interface RunSummaryNumbers {
 
 /**
  * Weighted mean with σ. Overlapping windows share samples, so N windows carry
- * only about N·step/window independent ones: the internal σ is inflated by
- * √(overlap). Scatter beyond the error bars (Birge ratio > 1) inflates it further.
+ * only about N·step/window independent ones: σ is inflated by √(overlap).
+ * When the windows scatter more than their error bars say (Birge ratio
+ * √(χ²/(n−1)) > 1), the scatter is trusted instead (common practice, no source).
  */
 export function weightedMean(v: number[], s: number[], overlap = 1): { mean: number; sigma: number } | null {
   let sw = 0, swx = 0;
@@ -42,7 +43,7 @@ export function weightedMean(v: number[], s: number[], overlap = 1): { mean: num
     chi2 += ((v[i] - mean) / s[i]) ** 2;
     n++;
   }
-  const birge = n > 1 ? Math.sqrt(chi2 / (n - 1) / overlap) : 1;
+  const birge = n > 1 ? Math.sqrt(chi2 / (n - 1)) : 1;
   return { mean, sigma: Math.sqrt(overlap / sw) * Math.max(1, birge) };
 }
 
@@ -67,7 +68,7 @@ export function weightedSlope(x: number[], y: number[], s: number[], overlap = 1
     if (!(s[i] > 0) || !Number.isFinite(y[i])) continue;
     chi2 += ((y[i] - a - b * x[i]) / s[i]) ** 2;
   }
-  const birge = Math.sqrt(chi2 / (n - 2) / overlap);
+  const birge = Math.sqrt(chi2 / (n - 2));
   return { slope: b, sigma: Math.sqrt((overlap * S) / D) * Math.max(1, birge) };
 }
 
