@@ -21,7 +21,7 @@ export async function importFile(db: Database.Database, station: Station, path: 
   // a provisional start keeps event times sensible until the duration is known
   const provisional = opts.startedAtMs ?? Date.now();
   const session = new RunSession(db, station, { source: 'file', sourcePath: path, startedAtMs: provisional, onEvent: opts.onEvent });
-  const acq = new Acquisition(station, session, makeLiveSink(station, session, { live: false }));
+  const acq = new Acquisition(station, session, makeLiveSink(station, session, { live: false, log: opts.log }));
   await replayFile(path, acq.decoder, (r) => acq.handle(r), { onProgress: opts.onProgress });
   await acq.end();
   if (opts.startedAtMs === undefined) {

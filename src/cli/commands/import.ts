@@ -34,14 +34,21 @@ export async function importCommand(file: string, opts: { station: string; start
     }, cliProgress.Presets.shades_classic)
     : undefined;
   const t0 = performance.now();
+  // lines logged while the bar is drawn are held and printed once it is done
+  const held: string[] = [];
+  const log = (l: string) => (bar ? held.push(l) : process.stderr.write(l + '\n'));
+  const flushLog = () => {
+    bar?.stop();
+    for (const l of held.splice(0)) process.stderr.write(l + '\n');
+  };
   bar?.start(size, 0, { rate: '0.0' });
   try {
     const res = await importFile(db, station, file, {
       startedAtMs,
       onProgress: (done) => bar?.update(done, { rate: (done / 1e6 / ((performance.now() - t0) / 1000 || 1)).toFixed(1) }),
-      log: (l) => { if (bar) bar.stop(); process.stderr.write(l + '\n'); },
+      log,
     });
-    bar?.stop();
+    flushLog();
     if (res.samples === 0) {
       // nothing to keep: leave no empty run behind; a file that decodes to nothing is bad input (exit 2)
       deleteRun(db, res.runId);
@@ -50,7 +57,7 @@ export async function importCommand(file: string, opts: { station: string; start
     const s = buildSummary(db, res.runId);
     process.stdout.write(opts.json ? JSON.stringify(s, null, 2) + '\n' : renderSummary(s));
   } finally {
-    bar?.stop();
+    flushLog();
     db.close();
   }
 }
