@@ -62,10 +62,21 @@ export async function recordRun(db: Database.Database, station: Station, opts: R
   let stopping: (why: string) => void = () => {};
   const stopped = new Promise<string>((res) => { stopping = res; });
   sup.on('giveup', (err) => stopping(`gave up: ${err.message}`));
+  // handlers first: a signal that comes while the port opens still closes the run cleanly
+  const sigint = () => stopping('SIGINT');
+  const sigterm = () => stopping('SIGTERM');
+  if (!opts.stopSignal) {
+    process.on('SIGINT', sigint);
+    process.on('SIGTERM', sigterm);
+  } else {
+    opts.stopSignal.then(() => stopping('stop requested'));
+  }
 
   try {
     await sup.start();
   } catch (e) {
+    process.off('SIGINT', sigint);
+    process.off('SIGTERM', sigterm);
     await acq.end();
     session.close('interrupted');
     if (e instanceof SerialTransportError) throw new RuntimeError(e.message);
@@ -76,15 +87,6 @@ export async function recordRun(db: Database.Database, station: Station, opts: R
   // commit at least once a second even when data pauses; checkpoint so the WAL stays small
   const tick = setInterval(() => session.flushIfDue(Date.now()), 200);
   const ckpt = setInterval(() => { try { checkpoint(db); } catch { /* a reader holds it; next time */ } }, 60_000);
-  const onSignal = (sig: string) => stopping(sig);
-  const sigint = () => onSignal('SIGINT');
-  const sigterm = () => onSignal('SIGTERM');
-  if (!opts.stopSignal) {
-    process.on('SIGINT', sigint);
-    process.on('SIGTERM', sigterm);
-  } else {
-    opts.stopSignal.then(() => stopping('stop requested'));
-  }
   const why = await stopped;
   process.off('SIGINT', sigint);
   process.off('SIGTERM', sigterm);
