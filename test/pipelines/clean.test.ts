@@ -1,35 +1,10 @@
 import { Observable, Subject, from, throwError, concat, of } from 'rxjs';
 import { describe, expect, it } from 'vitest';
+import { blocks as cutBlocks, rng } from '../helpers/blocks.js';
 import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../../src/config/block.js';
 import { clean } from '../../pipelines/clean.js';
 
-/** Seeded uniform numbers in [0, 1) (mulberry32). */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
-/** Cut arrays into blocks of the given sizes (the last size repeats). */
-function blocks(t: Float64Array, y: Float64Array, flags: Uint8Array, sizes: number[], temp?: Float64Array): AngleBlock[] {
-  const out: AngleBlock[] = [];
-  let i = 0;
-  let k = 0;
-  while (i < t.length) {
-    const n = Math.min(sizes[Math.min(k++, sizes.length - 1)], t.length - i);
-    out.push({
-      n, t: t.slice(i, i + n), angle: y.slice(i, i + n), flags: flags.slice(i, i + n),
-      channels: temp ? { temp_C: temp.slice(i, i + n) } : {}, clock: 'device', hostMs: 1000 + i,
-    });
-    i += n;
-  }
-  return out;
-}
+const blocks = (t: Float64Array, y: Float64Array, flags: Uint8Array, sizes: number[], temp?: Float64Array) => cutBlocks(t, y, flags, sizes, temp, { hostBase: 1000 });
 
 function randomSizes(r: () => number, total: number, max: number): number[] {
   const s: number[] = [];
