@@ -50,6 +50,16 @@ export function estimatePeriod(blocks: AngleBlock[]): number | undefined {
   return s.ok ? s.period_s : undefined;
 }
 
+/** Median sample interval of the first (up to 64) held samples, across block boundaries. */
+function firstInterval(held: AngleBlock[]): number | undefined {
+  const t: number[] = [];
+  for (const b of held) {
+    for (let i = 0; i < b.n && t.length < 65; i++) t.push(b.t[i]);
+    if (t.length >= 65) break;
+  }
+  return medianInterval(Float64Array.from(t));
+}
+
 /** @return an operator from cleaned AngleBlocks to conditioned ones */
 export function adaptiveCondition(opts: AdaptiveConditionOptions): (source: Observable<AngleBlock>) => Observable<AngleBlock> {
   return (source) =>
@@ -60,7 +70,7 @@ export function adaptiveCondition(opts: AdaptiveConditionOptions): (source: Obse
       let need_s = opts.firstEstimate_s ?? 600;
       const maxHeld = opts.maxHeld ?? 2_000_000;
       const start = (period: number | undefined): void => {
-        const dt = medianInterval(held.length ? held[0].t.subarray(0, held[0].n) : new Float64Array(0)) ?? 0;
+        const dt = firstInterval(held) ?? 0;
         const factor = period && dt > 0 ? chooseDecimationFactor(period, dt, opts.samplesPerPeriod) : 1;
         if (period) opts.onFirstEstimate?.(period, factor);
         opts.onFactor?.(factor, factor > 1 ? new Decimator({ factor, sampleInterval_s: dt }).whiteNoiseSigmaFactor() : 1);
@@ -69,12 +79,16 @@ export function adaptiveCondition(opts: AdaptiveConditionOptions): (source: Obse
         for (const b of held) inner.next(b);
         held.length = 0;
       };
-      if (opts.periodGuess_s) start(opts.periodGuess_s);
       const sub = source.subscribe({
         next(b) {
           if (inner) return inner.next(b);
           held.push(b);
           heldN += b.n;
+          // a known period needs only the sample interval, from the first few dozen samples
+          if (opts.periodGuess_s) {
+            if (heldN >= 64) start(opts.periodGuess_s);
+            return;
+          }
           const span = held[held.length - 1].t[b.n - 1] - held[0].t[0];
           if (span >= need_s) {
             const p = estimatePeriod(held);
@@ -85,7 +99,7 @@ export function adaptiveCondition(opts: AdaptiveConditionOptions): (source: Obse
         },
         error: (e) => (inner ? inner.error(e) : subscriber.error(e)),
         complete() {
-          if (!inner) start(estimatePeriod(held));
+          if (!inner) start(opts.periodGuess_s ?? estimatePeriod(held));
           inner!.complete();
         },
       });
