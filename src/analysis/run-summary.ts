@@ -19,6 +19,8 @@ export interface RunSummaryNumbers {
   equilibrium_rate_rad_per_s: number | null;
   equilibrium_rate_sigma_rad_per_s: number | null;
   amplitude_rad: number | null;
+  /** mean temperature of the accepted windows, °C (null without a temp_C channel) */
+  temp_C: number | null;
 }
 
 /**
@@ -87,6 +89,7 @@ export function summariseWindows(ws: Iterable<WindowResult>, overlap = 1): RunSu
   let windows = 0, ok = 0;
   let amplitude: number | null = null;
   let tEnd: number | null = null;
+  let tempSum = 0, tempN = 0;
   for (const w of ws) {
     windows++;
     tEnd = w.t_end_s;
@@ -100,6 +103,7 @@ export function summariseWindows(ws: Iterable<WindowResult>, overlap = 1): RunSu
       x.push(w.t_mid_s); y.push(w.equilibrium_rad); sy.push(w.equilibrium_sigma_rad);
     }
     if (w.amplitude_rad !== null) amplitude = w.amplitude_rad;
+    if (w.temp_C !== null && Number.isFinite(w.temp_C)) { tempSum += w.temp_C; tempN++; }
   }
   const o = Math.max(1, overlap);
   const P = weightedMean(period.v, period.s, o), Q = weightedMean(q.v, q.s, o);
@@ -119,6 +123,7 @@ export function summariseWindows(ws: Iterable<WindowResult>, overlap = 1): RunSu
     equilibrium_rate_rad_per_s: rate?.slope ?? null,
     equilibrium_rate_sigma_rad_per_s: rate?.sigma ?? null,
     amplitude_rad: amplitude,
+    temp_C: tempN ? tempSum / tempN : null,
     t_end_s: tEnd,
   };
 }

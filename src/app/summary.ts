@@ -34,15 +34,17 @@ export interface ShowSummary {
   alerts: { kind: string; state: string | null; t: string; message: string }[];
 }
 
+/** window_periods / step_periods of the station a run was recorded with (4, the default, when unknown). */
+export function overlapOf(stationConfig: unknown): number {
+  const a = (stationConfig as { analysis?: { window_periods?: number; step_periods?: number } } | null)?.analysis;
+  return a && a.window_periods && a.step_periods ? a.window_periods / a.step_periods : 4;
+}
+
 /** Build the summary; throws RuntimeError when the run does not exist. */
 export function buildSummary(db: Database.Database, runId: number): ShowSummary {
   const run = getRun(db, runId);
   if (!run) throw new RuntimeError(`run ${runId}: no such run in this store`);
-  let overlap = 4;
-  try {
-    const cfg = run.station_config as { analysis?: { window_periods: number; step_periods: number } } | null;
-    if (cfg?.analysis) overlap = cfg.analysis.window_periods / cfg.analysis.step_periods;
-  } catch { /* default overlap */ }
+  const overlap = overlapOf(run.station_config);
   const s = summariseWindows(iterateWindows(db, runId), overlap);
   const alerts = latestAlertStates(listEvents(db, runId));
   const out: ShowSummary = {

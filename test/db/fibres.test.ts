@@ -7,7 +7,8 @@ import { linearRegression, mean, sampleStandardDeviation, weightedMean } from 's
 import { openStore } from '../../db/open.js';
 import { createRun, endRun } from '../../db/runs.js';
 import { insertWindows } from '../../db/windows-store.js';
-import { fibreHistory, listFibres } from '../../db/fibres.js';
+import { listFibres } from '../../db/fibres.js';
+import { fibreHistory } from '../../src/app/fibre-history.js';
 import type { WindowResult } from '../../src/config/results.js';
 
 const dirs: string[] = [];
@@ -86,7 +87,7 @@ describe('fibres', () => {
     const [a, b, c, d] = h;
     expect(a).toMatchObject({ station: 'bench-a', started_at: '2026-05-01T00:00:00.000Z', status: 'complete', windows: n + 1, windows_ok: n });
 
-    const overlap = Math.sqrt(4); // window length / step, see fibreHistory
+    const overlap = Math.sqrt(4); // √(window length / step): windows of 4 periods stepping 1 (run summary)
     // κ: equal σ → plain mean; scatter below σ → σ_mean = σ/√n, times the overlap factor
     expect(a.kappa_Nm_per_rad!).toBeCloseTo(mean(w1.slice(0, n).map((w) => w.kappa_Nm_per_rad!)), 18);
     expect(a.kappa_sigma_Nm_per_rad!).toBeCloseTo(overlap * 1e-9 / Math.sqrt(n), 18);
@@ -94,7 +95,7 @@ describe('fibres', () => {
     const p = w1.slice(0, n);
     expect(a.period_s!).toBeCloseTo(weightedMean(p.map((w) => w.period_s!), p.map((w) => 1 / w.period_sigma_s! ** 2)), 12);
     expect(a.q!).toBeCloseTo(mean(p.map((w) => w.q!)), 9);
-    // creep: least-squares slope of equilibrium against t_mid (checked against simple-statistics)
+    // creep: slope of equilibrium against t_mid, equal σ → least squares (checked against simple-statistics)
     const lr = linearRegression(p.map((w) => [w.t_mid_s, w.equilibrium_rad!]));
     expect(a.equilibrium_rate_rad_per_s!).toBeCloseTo(lr.m, 15);
     expect(a.equilibrium_rate_rad_per_s!).toBeCloseTo(2e-9, 10);

@@ -37,6 +37,7 @@ function recording(d: Decoder): { d: Decoder; sizes: number[] } {
     d: {
       push: (c, h) => (sizes.push(c.length), d.push(c, h)),
       flush: (h) => d.flush(h),
+      resync: () => d.resync(),
       get stats() {
         return d.stats;
       },

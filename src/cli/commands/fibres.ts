@@ -1,5 +1,6 @@
 /** `fibrewatch fibres` and `fibrewatch fibre NAME`: fibres and their history across runs. */
-import { fibreHistory, listFibres } from '../../../db/fibres.js';
+import { listFibres } from '../../../db/fibres.js';
+import { fibreHistory } from '../../app/fibre-history.js';
 import { RuntimeError } from '../errors.js';
 import { fmt, isoShort, table, withSigma } from '../format.js';
 import { withQueryStore } from '../store.js';
