@@ -9,12 +9,12 @@ import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import Database from 'better-sqlite3';
 import { parseScenario } from '../../drivers/simulator/scenario.js';
 import { stationForScenario } from '../../drivers/simulator/station-for-scenario.js';
 import { lookupMaterial } from '../../src/physics/materials.js';
 import { startPtyPair, waitFor, type PtyPair } from '../../src/app/pty-pair.js';
 import { runCli, startCli } from '../helpers/cli.js';
+import { samplesIn } from '../helpers/store.js';
 
 // invented scenario: 50 µm tungsten, 0.5 m long, a 4.5e-6 kg·m² bob: T ≈ 30 s; no temperature swing, no creep
 const SCENARIO = {
@@ -44,15 +44,6 @@ afterEach(async () => {
   pty = undefined;
   rmSync(dir, { recursive: true, force: true });
 });
-
-const samplesIn = (db: string) => {
-  const d = new Database(db, { readonly: true, fileMustExist: true });
-  try {
-    return (d.prepare('SELECT COALESCE(SUM(samples), 0) AS n FROM runs').get() as { n: number }).n;
-  } finally {
-    d.close();
-  }
-};
 
 describe('record of the simulator through a pseudo-terminal', () => {
   it('recovers the simulated period, κ and G within their uncertainties', async () => {

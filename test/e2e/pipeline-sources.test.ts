@@ -9,7 +9,6 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import Database from 'better-sqlite3';
 import { parseScenario } from '../../drivers/simulator/scenario.js';
 import { runSimulator } from '../../drivers/simulator/run-simulator.js';
 import { stationForScenario } from '../../drivers/simulator/station-for-scenario.js';
@@ -21,6 +20,7 @@ import { makeLiveSink } from '../../src/app/live-sink.js';
 import { startPtyPair, waitFor, type PtyPair } from '../../src/app/pty-pair.js';
 import { spawn } from 'node:child_process';
 import { runCli, startCli } from '../helpers/cli.js';
+import { samplesIn } from '../helpers/store.js';
 
 // an invented balance: 0.1 mm tungsten, ~40 s period, 50 min at 10 Hz, thermal and readout noise
 const SCENARIO = {
@@ -100,15 +100,6 @@ function copyInto(src: string, feed: string): Promise<number | null> {
   const child = spawn(process.execPath, ['-e', script, src, feed], { stdio: 'ignore' });
   return new Promise((resolve) => child.once('exit', (code) => resolve(code)));
 }
-
-const samplesIn = (db: string) => {
-  const d = new Database(db, { readonly: true, fileMustExist: true });
-  try {
-    return (d.prepare('SELECT COALESCE(SUM(samples), 0) AS n FROM runs').get() as { n: number }).n;
-  } finally {
-    d.close();
-  }
-};
 
 describe('one pipeline, three sources', () => {
   let reference: Row[];

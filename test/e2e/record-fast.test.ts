@@ -13,6 +13,7 @@ import { parseScenario } from '../../drivers/simulator/scenario.js';
 import { stationForScenario } from '../../drivers/simulator/station-for-scenario.js';
 import { startPtyPair, waitFor, type PtyPair } from '../../src/app/pty-pair.js';
 import { startCli } from '../helpers/cli.js';
+import { samplesIn } from '../helpers/store.js';
 
 const RATE_HZ = 8000;
 const DURATION_S = 12;
@@ -42,15 +43,6 @@ afterEach(async () => {
   pty = undefined;
   rmSync(dir, { recursive: true, force: true });
 });
-
-const samplesIn = (db: string) => {
-  const d = new Database(db, { readonly: true, fileMustExist: true });
-  try {
-    return (d.prepare('SELECT COALESCE(SUM(samples), 0) AS n FROM runs').get() as { n: number }).n;
-  } finally {
-    d.close();
-  }
-};
 
 /** Resident set size of a process, bytes (VmRSS in /proc/PID/status, Linux). */
 function rssOf(pid: number): number | undefined {

@@ -15,6 +15,7 @@ import { writerProcess, writerLine } from '../helpers/pty.js';
 import { runCli, startCli } from '../helpers/cli.js';
 import { readSamples } from '../../db/sample-reader.js';
 import { listEvents } from '../../db/events-store.js';
+import { samplesIn } from '../helpers/store.js';
 
 let dir: string;
 let pty: PtyPair | undefined;
@@ -37,15 +38,6 @@ function station(device: string, extra: Record<string, unknown> = {}): string {
   }));
   return p;
 }
-
-const samplesIn = (db: string) => {
-  const d = new Database(db, { readonly: true, fileMustExist: true });
-  try {
-    return (d.prepare('SELECT COALESCE(SUM(samples), 0) AS n FROM runs').get() as { n: number }).n;
-  } finally {
-    d.close();
-  }
-};
 
 describe('record over a pseudo-terminal', () => {
   it('stores every sample written, values equal to float32 precision or better', async () => {
