@@ -6,7 +6,7 @@
  */
 import { pathToFileURL } from 'node:url';
 import { Observable } from 'rxjs';
-import type { AngleBlock } from '../src/config/block.js';
+import type { AngleBlock } from '../src/domain/block.js';
 import { chooseDecimationFactor } from '../src/analysis/decimate.js';
 import { clean } from '../pipelines/clean.js';
 import { condition } from '../pipelines/condition.js';

@@ -11,7 +11,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import Database from 'better-sqlite3';
-import { startPtyPair, waitFor } from '../src/app/pty-pair.js';
+import { startPtyPair, waitFor } from '../drivers/pty-pair.js';
 import { encodeLines } from '../drivers/wire-encode.js';
 import { Rng } from '../drivers/simulator/rng.js';
 

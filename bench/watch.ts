@@ -20,8 +20,8 @@ import { listEvents } from '../db/events-store.js';
 import { listWindows } from '../db/windows-store.js';
 import { parseScenario, type ScenarioInput } from '../drivers/simulator/scenario.js';
 import { runSimulator } from '../drivers/simulator/run-simulator.js';
-import type { Incident } from '../src/config/events.js';
-import type { WindowResult } from '../src/config/results.js';
+import type { Incident } from '../src/domain/events.js';
+import type { WindowResult } from '../src/domain/window-result.js';
 import { watchEquilibrium } from '../pipelines/watch/watch-equilibrium.js';
 import { watchPeriod } from '../pipelines/watch/watch-period.js';
 

@@ -2,7 +2,7 @@
  * Per-window fit results of a run (src/config/results.ts WindowResult, one row each).
  */
 import type { Database } from 'better-sqlite3';
-import type { WindowResult } from '../src/config/results.js';
+import type { WindowResult } from '../src/domain/window-result.js';
 
 /** WindowResult fields stored as columns of the same name (index → idx). */
 const FIELDS = [

@@ -3,9 +3,10 @@
  * records `A7 3C | version 1 | n | seq u16 | µs u32 | n × i32 | CRC-16`.
  * Works over DataView and typed arrays; no object per frame.
  */
-import type { ColumnRole, RawBlock, ValueRole } from '../src/config/block.js';
+import type { ColumnRole, RawBlock, ValueRole } from '../src/domain/block.js';
 import { crc16CcittFalse } from './crc16.js';
-import { BadInputLimiter, type DecodeResult, type Decoder, type DecoderStats } from './decoder.js';
+import { BadInputLimiter } from './bad-input-limiter.js';
+import type { DecodeResult, Decoder, DecoderStats } from './decoder.js';
 import { Unwrapper } from './unwrap.js';
 
 /** Options of FramesDecoder. */

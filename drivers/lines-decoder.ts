@@ -3,8 +3,9 @@
  * or CRLF, `#` comments, `# columns:` declarations, one reading per line.
  * Parses the bytes directly (no string per line or field on the hot path).
  */
-import { TIME_ROLES, VALUE_ROLES, type ColumnRole, type RawBlock, type ValueRole } from '../src/config/block.js';
-import { BadInputLimiter, type DecodeResult, type Decoder, type DecoderStats } from './decoder.js';
+import { TIME_ROLES, VALUE_ROLES, type ColumnRole, type RawBlock, type ValueRole } from '../src/domain/block.js';
+import { BadInputLimiter } from './bad-input-limiter.js';
+import type { DecodeResult, Decoder, DecoderStats } from './decoder.js';
 import { parseNumber, scaleDecimal } from './parse-number.js';
 import { Unwrapper } from './unwrap.js';
 

@@ -13,7 +13,7 @@
  * swing's sign (NaN when the spot is lost altogether): the FFT period seed may
  * use that sign where most of each swing is off the split.
  */
-import { FLAG_INVALID, FLAG_SATURATED, type AngleBlock, type RawBlock, type ValueRole } from '../src/config/block.js';
+import { FLAG_INVALID, FLAG_SATURATED, type AngleBlock, type RawBlock, type ValueRole } from '../src/domain/block.js';
 import type { SensorConfig } from '../src/config/station.js';
 import { erfinv } from './erfinv.js';
 import { Unwrapper } from './unwrap.js';

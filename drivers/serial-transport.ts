@@ -44,7 +44,7 @@
 import { EventEmitter } from 'node:events';
 import { stat } from 'node:fs/promises';
 import { SerialPort } from 'serialport';
-import type { Incident } from '../src/config/events.js';
+import type { Incident } from '../src/domain/events.js';
 import { nextDelay } from './backoff.js';
 
 /** The part of serialport's `SerialPort` the supervisor uses (so tests or other bindings can stand in). */

@@ -2,7 +2,7 @@
  * Writers of the two wire formats (WIRE.md), for the simulator and the tests:
  * what they write, the decoders read back to the same numbers.
  */
-import type { ColumnRole, ValueRole } from '../src/config/block.js';
+import type { ColumnRole, ValueRole } from '../src/domain/block.js';
 import { crc16CcittFalse } from './crc16.js';
 
 /** Options of encodeLines. */

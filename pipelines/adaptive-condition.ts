@@ -6,7 +6,7 @@
  * and all later ones go through `condition({ factor: M })`.
  */
 import { Observable, Subject } from 'rxjs';
-import { FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../src/config/block.js';
+import { FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../src/domain/block.js';
 import { periodSeed } from '../src/analysis/period-seed.js';
 import { chooseDecimationFactor, Decimator, medianInterval } from '../src/analysis/decimate.js';
 import { condition } from './condition.js';

@@ -4,7 +4,7 @@
  * is stored with the error as its status; the stream never ends on one window.
  */
 import { Observable } from 'rxjs';
-import type { WindowResult } from '../src/config/results.js';
+import type { WindowResult } from '../src/domain/window-result.js';
 import { analyseWindow, emptyResult, type WindowAnalysisOptions } from '../src/analysis/window-analysis.js';
 import type { WindowData } from './types.js';
 import type { PeriodTracker } from './period-tracker.js';

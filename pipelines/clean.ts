@@ -1,5 +1,5 @@
 import { Observable } from 'rxjs';
-import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../src/config/block.js';
+import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../src/domain/block.js';
 import { BlockBuffer } from '../src/analysis/block-buffer.js';
 import { medianInterval } from '../src/analysis/decimate.js';
 import { HAMPEL_PENDING, HAMPEL_SPIKE, HampelDetector, checkHampelOptions } from '../src/analysis/hampel.js';

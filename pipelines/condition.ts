@@ -1,5 +1,5 @@
 import { Observable } from 'rxjs';
-import { FLAG_INVALID, type AngleBlock } from '../src/config/block.js';
+import { FLAG_INVALID, type AngleBlock } from '../src/domain/block.js';
 import { BlockBuffer } from '../src/analysis/block-buffer.js';
 import { Decimator, medianInterval, type DecimatedSamples } from '../src/analysis/decimate.js';
 

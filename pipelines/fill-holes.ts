@@ -3,7 +3,7 @@
  * src/analysis/hole-filler.ts), so later stages see uniform sampling.
  */
 import { Observable } from 'rxjs';
-import type { AngleBlock } from '../src/config/block.js';
+import type { AngleBlock } from '../src/domain/block.js';
 import { HoleFiller } from '../src/analysis/hole-filler.js';
 
 /** @return an operator from AngleBlock to AngleBlock with holes filled */

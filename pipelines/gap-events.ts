@@ -3,8 +3,8 @@
  * a `gap` incident with the missing span. The blocks pass through unchanged.
  */
 import { Observable } from 'rxjs';
-import { FLAG_AFTER_GAP, type AngleBlock } from '../src/config/block.js';
-import type { Incident } from '../src/config/events.js';
+import { FLAG_AFTER_GAP, type AngleBlock } from '../src/domain/block.js';
+import type { Incident } from '../src/domain/events.js';
 
 /** @return an operator that taps gaps into `report` */
 export function gapEvents(report: (inc: Incident) => void): (source: Observable<AngleBlock>) => Observable<AngleBlock> {

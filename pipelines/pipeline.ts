@@ -4,9 +4,9 @@
  * the first period estimate) → sliding windows in periods → analyse.
  */
 import { Observable, share } from 'rxjs';
-import type { AngleBlock } from '../src/config/block.js';
-import type { Incident } from '../src/config/events.js';
-import type { WindowResult } from '../src/config/results.js';
+import type { AngleBlock } from '../src/domain/block.js';
+import type { Incident } from '../src/domain/events.js';
+import type { WindowResult } from '../src/domain/window-result.js';
 import type { AnalysisConfig } from '../src/config/station.js';
 import type { DeriveContext } from '../src/analysis/derive.js';
 import { clean } from './clean.js';

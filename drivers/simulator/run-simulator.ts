@@ -6,7 +6,7 @@
  */
 import { createWriteStream } from 'node:fs';
 import { once } from 'node:events';
-import type { ColumnRole, ValueRole } from '../../src/config/block.js';
+import type { ColumnRole, ValueRole } from '../../src/domain/block.js';
 import { encodeFrames, encodeLines } from '../wire-encode.js';
 import type { Scenario } from './scenario.js';
 import { DEFAULT_SEED, SimulatorSource, type SimBlock } from './simulate.js';

@@ -6,7 +6,7 @@
  */
 import { readFileSync } from 'node:fs';
 import { z } from 'zod';
-import { TIME_ROLES, VALUE_ROLES, type ColumnRole, type ValueRole } from '../../src/config/block.js';
+import { TIME_ROLES, VALUE_ROLES, type ColumnRole, type ValueRole } from '../../src/domain/block.js';
 import { firstIssue } from '../../src/config/first-issue.js';
 import { inertiaFromParts, InertiaPartError } from '../../src/physics/inertia.js';
 import { lookupMaterial, materialNames } from '../../src/physics/materials.js';

@@ -4,7 +4,7 @@
  * turns the beam by 2θ, so the spot on a detector at lever arm D sits at
  * x = D·tan(2θ).
  */
-import type { ValueRole } from '../../src/config/block.js';
+import type { ValueRole } from '../../src/domain/block.js';
 import { erf } from '../erfinv.js';
 import type { Rng } from './rng.js';
 import type { Scenario } from './scenario.js';

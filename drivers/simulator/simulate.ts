@@ -3,7 +3,7 @@
  * scenario's dropouts combined into blocks of what the device would send.
  * `simulateToArrays` runs a whole scenario into arrays (tests, pipelines).
  */
-import type { ValueRole } from '../../src/config/block.js';
+import type { ValueRole } from '../../src/domain/block.js';
 import { Balance } from './balance.js';
 import { Rng } from './rng.js';
 import type { Scenario } from './scenario.js';

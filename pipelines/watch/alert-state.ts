@@ -5,7 +5,7 @@
  * raised alert clears only after `clear_after` consecutive evaluations with
  * the statistic below `clear_fraction` × its threshold.
  */
-import type { AlertState as State, EventKind, Incident, Severity } from '../../src/config/events.js';
+import type { AlertState as State, EventKind, Incident, Severity } from '../../src/domain/events.js';
 
 /** Options of createAlertState. */
 export interface AlertStateOptions {

@@ -4,8 +4,8 @@
  * limit_rad, e.g. alerts.twist_fraction × θ_max from src/physics).
  */
 import { Observable } from 'rxjs';
-import type { Incident } from '../../src/config/events.js';
-import type { WindowResult } from '../../src/config/results.js';
+import type { Incident } from '../../src/domain/events.js';
+import type { WindowResult } from '../../src/domain/window-result.js';
 import { createAlertState } from './alert-state.js';
 
 /** Caution shown with amplitude-limit (DOMAIN.md "Cautions the tool shows"). */

@@ -11,8 +11,8 @@
  * horizon_h back) gives "settled in about N h".
  */
 import { Observable } from 'rxjs';
-import type { Incident } from '../../src/config/events.js';
-import type { WindowResult } from '../../src/config/results.js';
+import type { Incident } from '../../src/domain/events.js';
+import type { WindowResult } from '../../src/domain/window-result.js';
 import { robustTrend } from '../../src/analysis/robust-trend.js';
 import { fitLogCreep, forecastSettle, type SettleForecast } from '../../src/analysis/log-creep.js';
 import { createAlertState } from './alert-state.js';

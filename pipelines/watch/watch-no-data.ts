@@ -6,8 +6,8 @@
  * TestScheduler or on real timers alike.
  */
 import { asyncScheduler, Observable, type SchedulerLike } from 'rxjs';
-import type { AngleBlock } from '../../src/config/block.js';
-import type { Incident } from '../../src/config/events.js';
+import type { AngleBlock } from '../../src/domain/block.js';
+import type { Incident } from '../../src/domain/events.js';
 import { createAlertState } from './alert-state.js';
 
 /** Options of watchNoData. */

@@ -13,8 +13,8 @@
  * raise_fraction × period_change_ppm on the same side (see the option).
  */
 import { Observable } from 'rxjs';
-import type { Incident } from '../../src/config/events.js';
-import type { WindowResult } from '../../src/config/results.js';
+import type { Incident } from '../../src/domain/events.js';
+import type { WindowResult } from '../../src/domain/window-result.js';
 import { cusumInit, cusumOptions, cusumStatistic, cusumStep, type CusumOptions } from '../../src/analysis/cusum.js';
 import { fitTempCoefficient } from '../../src/analysis/temp-coefficient.js';
 import { createAlertState } from './alert-state.js';

@@ -3,8 +3,8 @@
  * interval of sample time (per block, never per sample emission).
  */
 import { Observable } from 'rxjs';
-import { FLAG_SATURATED, type AngleBlock } from '../../src/config/block.js';
-import type { Incident } from '../../src/config/events.js';
+import { FLAG_SATURATED, type AngleBlock } from '../../src/domain/block.js';
+import type { Incident } from '../../src/domain/events.js';
 import { createAlertState } from './alert-state.js';
 
 /** Options of watchSaturation. */

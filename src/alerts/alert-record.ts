@@ -3,7 +3,7 @@
  * stdin): an Incident placed on the run's time base. JSON fields follow
  * CONTRACT.md `events` (`t` ISO 8601 UTC, `t_s` seconds since the run's start).
  */
-import type { AlertState, EventKind, Incident, Severity } from '../config/events.js';
+import type { AlertState, EventKind, Incident, Severity } from '../domain/events.js';
 
 /** What the dispatcher is handed: an incident with its run, station and times. */
 export type AlertInput = Omit<Incident, 't'> & { run: number | string; station: string; t: string; t_s: number };

@@ -36,7 +36,7 @@
  * (and carries FLAG_AFTER_GAP), and outputs within L input samples of the
  * restart are FLAG_INVALID while the filter settles.
  */
-import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE } from '../config/block.js';
+import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE } from '../domain/block.js';
 import { BiquadCascade, biquadGroupDelayDc, biquadResponse, biquadSupport, butterworthLowpass } from './biquad.js';
 
 /** Options of the decimator. */

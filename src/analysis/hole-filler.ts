@@ -4,7 +4,7 @@
  * the decimator need uniform sampling, so each missing slot is filled with a
  * masked placeholder (NaN, FLAG_INVALID). Longer jumps are gaps, left alone.
  */
-import { FLAG_INVALID } from '../config/block.js';
+import { FLAG_INVALID } from '../domain/block.js';
 
 export interface FilledBlock {
   n: number;

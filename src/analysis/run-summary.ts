@@ -3,7 +3,7 @@
  * κ and G, and the equilibrium rate over the run — each with an uncertainty
  * that accounts for overlapping windows and for scatter beyond the error bars.
  */
-import type { WindowResult } from '../config/results.js';
+import type { WindowResult } from '../domain/window-result.js';
 
 export interface RunSummaryNumbers {
   windows: number;

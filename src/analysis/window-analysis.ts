@@ -3,7 +3,7 @@
  * previous window's period) → damped-sine fit → derived quantities. Pure: the
  * pipeline's `analyse` operator and the one-shot `fit` command both call it.
  */
-import type { WindowResult } from '../config/results.js';
+import type { WindowResult } from '../domain/window-result.js';
 import { periodSeed } from './period-seed.js';
 import { fitDampedSine, type DampedSineFit } from './damped-sine.js';
 import { deriveQuantities, type DeriveContext } from './derive.js';

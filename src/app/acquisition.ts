@@ -3,10 +3,11 @@
  * decoder → sensor conversion → store, and the converted blocks on to the
  * analysis pipeline. Only where the bytes come from differs.
  */
-import type { AngleBlock } from '../config/block.js';
-import type { Incident } from '../config/events.js';
+import type { AngleBlock } from '../domain/block.js';
+import type { Incident } from '../domain/events.js';
 import type { Station } from '../config/station.js';
-import { makeDecoder, type Decoder, type DecodeResult, type MakeDecoderOptions } from '../../drivers/decoder.js';
+import type { Decoder, DecodeResult } from '../../drivers/decoder.js';
+import { makeDecoder, type MakeDecoderOptions } from '../../drivers/make-decoder.js';
 import { makeConverter } from '../../drivers/sensor.js';
 import type { RunSession } from './run-session.js';
 
@@ -19,7 +20,7 @@ export interface BlockSink {
 
 export class Acquisition {
   readonly decoder: Decoder;
-  private readonly convert: (b: import('../config/block.js').RawBlock) => AngleBlock;
+  private readonly convert: (b: import('../domain/block.js').RawBlock) => AngleBlock;
 
   constructor(station: Station, private readonly session: RunSession, private readonly sink?: BlockSink, opts?: MakeDecoderOptions) {
     this.decoder = makeDecoder(station, opts);

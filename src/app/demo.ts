@@ -16,12 +16,12 @@ import { getRun, updateRunStartedAt } from '../../db/runs.js';
 import { parseScenario } from '../../drivers/simulator/scenario.js';
 import { runSimulator } from '../../drivers/simulator/run-simulator.js';
 import { demoStory } from './demo-story.js';
-import { haveSocat, startPtyPair } from './pty-pair.js';
+import { haveSocat, startPtyPair } from '../../drivers/pty-pair.js';
 import { recordRun } from './record.js';
 import { RunSession, type StoredEvent } from './run-session.js';
 import { Acquisition } from './acquisition.js';
 import { makeLiveSink } from './live-sink.js';
-import { buildSummary, type ShowSummary } from './summary.js';
+import { buildSummary, type ShowSummary } from '../summaries/show-summary.js';
 import { renderReport } from '../report/html-report.js';
 
 export interface DemoOptions {

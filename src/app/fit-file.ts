@@ -1,10 +1,10 @@
 /** The one-shot fit of a recorded file as a single window (`fibrewatch fit`). */
 import type { Station } from '../config/station.js';
-import type { WindowResult } from '../config/results.js';
-import { FLAG_INVALID, FLAG_SATURATED } from '../config/block.js';
+import type { WindowResult } from '../domain/window-result.js';
+import { FLAG_INVALID, FLAG_SATURATED } from '../domain/block.js';
 import { analyseWindow } from '../analysis/window-analysis.js';
 import { readRecording } from './read-recording.js';
-import { deriveContextFor, twistLimitFor } from './derive-context.js';
+import { deriveContextFor, twistLimitFor } from '../config/derive-context.js';
 
 /** The fitted numbers of CONTRACT.md's `fit` output, as a window stores them. */
 type FitNumbers = Pick<WindowResult,

@@ -5,8 +5,8 @@
  * source also watches for silence (`no-data`, on host timers).
  */
 import { Subject, merge, type Subscription } from 'rxjs';
-import type { AngleBlock } from '../config/block.js';
-import type { Incident } from '../config/events.js';
+import type { AngleBlock } from '../domain/block.js';
+import type { Incident } from '../domain/events.js';
 import type { Station } from '../config/station.js';
 import { analysisPipeline } from '../../pipelines/pipeline.js';
 import { watchEquilibrium } from '../../pipelines/watch/watch-equilibrium.js';
@@ -17,7 +17,7 @@ import { watchNoData } from '../../pipelines/watch/watch-no-data.js';
 import { createDispatcher, type AlertDispatcher } from '../alerts/alert-dispatcher.js';
 import type { BlockSink } from './acquisition.js';
 import type { RunSession } from './run-session.js';
-import { deriveContextFor, twistLimitFor } from './derive-context.js';
+import { deriveContextFor, twistLimitFor } from '../config/derive-context.js';
 
 export interface LiveSinkOptions {
   /** a live source: watch for silence on host timers (default true) */

@@ -2,10 +2,10 @@
  * Decode a whole recorded file into arrays (for the one-shot `fit`): the same
  * decoders and sensor conversion as live acquisition.
  */
-import type { AngleBlock } from '../config/block.js';
-import type { Incident } from '../config/events.js';
+import type { AngleBlock } from '../domain/block.js';
+import type { Incident } from '../domain/events.js';
 import type { Station } from '../config/station.js';
-import { makeDecoder } from '../../drivers/decoder.js';
+import { makeDecoder } from '../../drivers/make-decoder.js';
 import { makeConverter } from '../../drivers/sensor.js';
 import { replayFile } from '../../drivers/replay.js';
 import { HoleFiller } from '../analysis/hole-filler.js';

@@ -12,7 +12,7 @@ import { markInterrupted } from '../../db/runs.js';
 import { checkpoint } from '../../db/open.js';
 import { RunSession, type StoredEvent } from './run-session.js';
 import { Acquisition, type BlockSink } from './acquisition.js';
-import { RuntimeError } from '../cli/errors.js';
+import { RuntimeError } from '../domain/errors.js';
 
 export interface RecordOptions {
   device: string;

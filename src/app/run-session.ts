@@ -4,9 +4,9 @@
  * window results, and commits at least once a second (ARCHITECTURE.md).
  */
 import type Database from 'better-sqlite3';
-import type { AngleBlock, ValueRole } from '../config/block.js';
-import type { Incident } from '../config/events.js';
-import type { WindowResult } from '../config/results.js';
+import type { AngleBlock, ValueRole } from '../domain/block.js';
+import type { Incident } from '../domain/events.js';
+import type { WindowResult } from '../domain/window-result.js';
 import type { Station } from '../config/station.js';
 import { createRun, endRun, updateRunStartedAt } from '../../db/runs.js';
 import { SampleWriter } from '../../db/sample-writer.js';

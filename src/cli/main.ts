@@ -5,15 +5,10 @@
  */
 import { Command, CommanderError, Option } from 'commander';
 import { StationError } from '../config/station.js';
-import { RuntimeError, UsageError } from './errors.js';
+import { RuntimeError, UsageError } from '../domain/errors.js';
 
 const dbOption = () =>
   new Option('--db <path>', 'SQLite store (default $FIBREWATCH_DB, else ./fibrewatch.db)');
-
-/** Resolve the store path per CONTRACT.md. */
-export function dbPath(opt?: string): string {
-  return opt ?? process.env.FIBREWATCH_DB ?? './fibrewatch.db';
-}
 
 function positiveNumber(flag: string) {
   return (v: string) => {

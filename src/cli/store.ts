@@ -2,8 +2,12 @@
 import { existsSync } from 'node:fs';
 import type Database from 'better-sqlite3';
 import { openStore } from '../../db/open.js';
-import { RuntimeError } from './errors.js';
-import { dbPath } from './main.js';
+import { RuntimeError } from '../domain/errors.js';
+
+/** The store path: the flag, else $FIBREWATCH_DB, else ./fibrewatch.db. */
+export function dbPath(opt?: string): string {
+  return opt ?? process.env.FIBREWATCH_DB ?? './fibrewatch.db';
+}
 
 /** Open an existing store for reading (queries); exit 1 with the path when there is none. */
 export function openForQuery(opt?: string): Database.Database {

@@ -5,7 +5,7 @@
  */
 import { readFileSync } from 'node:fs';
 import { z } from 'zod';
-import { TIME_ROLES, VALUE_ROLES } from './block.js';
+import { TIME_ROLES, VALUE_ROLES } from '../domain/block.js';
 import { firstIssue } from './first-issue.js';
 
 const pos = (what = 'must be > 0') => z.number(what === 'must be > 0' ? 'must be a number' : what).positive(what);

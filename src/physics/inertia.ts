@@ -5,7 +5,6 @@
  * moves it out to the fibre. Standard rigid-body results (any mechanics
  * textbook's table of moments of inertia). SI: kg, m, kg·m².
  */
-import type { PendulumConfig } from '../config/station.js';
 
 /** Point mass m at distance r from the axis: I = m·r². */
 export function pointMass(m: number, r: number): number {
@@ -62,8 +61,23 @@ export function parallelAxis(Icm: number, m: number, d: number): number {
   return Icm + m * d * d;
 }
 
-/** One entry of a station's `pendulum.parts` list. */
-export type InertiaPart = NonNullable<PendulumConfig['parts']>[number];
+/** The shapes a parts list may name. */
+export const PART_SHAPES = ['point', 'rod', 'bar', 'disc', 'cylinder', 'ring', 'sphere'] as const;
+
+/** One body of a pendulum's parts list (SI); the station file and the simulator's scenarios validate it. */
+export interface InertiaPart {
+  shape: (typeof PART_SHAPES)[number];
+  mass_kg: number;
+  /** distance of the part's centre from the fibre axis (default 0) */
+  offset_m?: number;
+  length_m?: number;
+  width_m?: number;
+  radius_m?: number;
+  inner_radius_m?: number;
+  outer_radius_m?: number;
+  /** identical copies (default 1) */
+  count?: number;
+}
 
 /** A part that cannot be evaluated: names the part index and the missing/bad field. */
 export class InertiaPartError extends Error {

@@ -7,8 +7,8 @@ import type Database from 'better-sqlite3';
 import { listWindows } from '../../db/windows-store.js';
 import { listEvents } from '../../db/events-store.js';
 import { readSamples } from '../../db/sample-reader.js';
-import { buildSummary } from '../app/summary.js';
-import { withSigma, fmt, isoShort } from '../cli/format.js';
+import { buildSummary } from '../summaries/show-summary.js';
+import { withSigma, fmt, isoShort } from '../display/format.js';
 import { plotSvg } from './svg-plot.js';
 
 const esc = (s: string) => s.replace(/[&<>"]/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[c]!);

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE } from '../../src/config/block.js';
+import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE } from '../../src/domain/block.js';
 import { biquadResponse } from '../../src/analysis/biquad.js';
 import { Decimator, chooseDecimationFactor, medianInterval } from '../../src/analysis/decimate.js';
 import { fitDampedSine } from '../../src/analysis/damped-sine.js';

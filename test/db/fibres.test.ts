@@ -8,8 +8,8 @@ import { openStore } from '../../db/open.js';
 import { createRun, endRun } from '../../db/runs.js';
 import { insertWindows } from '../../db/windows-store.js';
 import { listFibres } from '../../db/fibres.js';
-import { fibreHistory } from '../../src/app/fibre-history.js';
-import type { WindowResult } from '../../src/config/results.js';
+import { fibreHistory } from '../../src/summaries/fibre-history.js';
+import type { WindowResult } from '../../src/domain/window-result.js';
 
 const dirs: string[] = [];
 function tmpFile(): string {

@@ -7,7 +7,7 @@ import { openStore } from '../../db/open.js';
 import { createRun } from '../../db/runs.js';
 import { SampleWriter } from '../../db/sample-writer.js';
 import { iterateChunks, listChannels, readSamples } from '../../db/sample-reader.js';
-import { FLAG_AFTER_GAP, FLAG_SATURATED } from '../../src/config/block.js';
+import { FLAG_AFTER_GAP, FLAG_SATURATED } from '../../src/domain/block.js';
 
 const dirs: string[] = [];
 function tmpFile(): string {

@@ -5,7 +5,7 @@ import { join } from 'node:path';
 import { openStore } from '../../db/open.js';
 import { createRun, listRuns } from '../../db/runs.js';
 import { insertWindows, listWindows } from '../../db/windows-store.js';
-import type { WindowResult } from '../../src/config/results.js';
+import type { WindowResult } from '../../src/domain/window-result.js';
 
 const dirs: string[] = [];
 function tmpFile(): string {

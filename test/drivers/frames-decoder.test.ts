@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import type { Incident } from '../../src/config/events.js';
+import type { Incident } from '../../src/domain/events.js';
 import type { DecodeResult } from '../../drivers/decoder.js';
 import { FramesDecoder } from '../../drivers/frames-decoder.js';
 import { encodeFrames } from '../../drivers/wire-encode.js';

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import type { RawBlock } from '../../src/config/block.js';
-import type { Incident } from '../../src/config/events.js';
+import type { RawBlock } from '../../src/domain/block.js';
+import type { Incident } from '../../src/domain/events.js';
 import type { DecodeResult, Decoder } from '../../drivers/decoder.js';
 import { LinesDecoder, type LinesDecoderOptions } from '../../drivers/lines-decoder.js';
 import { parseNumber } from '../../drivers/parse-number.js';

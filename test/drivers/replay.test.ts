@@ -4,7 +4,7 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { DecodeResult, Decoder } from '../../drivers/decoder.js';
-import { makeDecoder } from '../../drivers/decoder.js';
+import { makeDecoder } from '../../drivers/make-decoder.js';
 import { FramesDecoder } from '../../drivers/frames-decoder.js';
 import { LinesDecoder } from '../../drivers/lines-decoder.js';
 import { replayFile } from '../../drivers/replay.js';

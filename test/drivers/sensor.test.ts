@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import stdlibErf from '@stdlib/math-base-special-erf';
 import stdlibErfinv from '@stdlib/math-base-special-erfinv';
-import { FLAG_INVALID, FLAG_SATURATED, type RawBlock, type ValueRole } from '../../src/config/block.js';
+import { FLAG_INVALID, FLAG_SATURATED, type RawBlock, type ValueRole } from '../../src/domain/block.js';
 import { makeConverter } from '../../drivers/sensor.js';
 
 function block(channels: Partial<Record<ValueRole, number[]>>): RawBlock {

@@ -4,7 +4,7 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import type { Incident } from '../../src/config/events.js';
+import type { Incident } from '../../src/domain/events.js';
 import { SerialPort } from 'serialport';
 import { SerialSupervisor, type DownInfo, type UpInfo } from '../../drivers/serial-transport.js';
 import { startPtyPair, waitFor, writerLine, writerProcess, type PtyPair } from '../helpers/pty.js';

@@ -5,15 +5,15 @@ import { join } from 'node:path';
 import { PassThrough, Writable } from 'node:stream';
 import { SerialPort } from 'serialport';
 import { afterAll, describe, expect, it } from 'vitest';
-import type { RawBlock } from '../../src/config/block.js';
+import type { RawBlock } from '../../src/domain/block.js';
 import { parseStation } from '../../src/config/station.js';
-import { makeDecoder } from '../../drivers/decoder.js';
+import { makeDecoder } from '../../drivers/make-decoder.js';
 import { makeConverter } from '../../drivers/sensor.js';
 import { runSimulator } from '../../drivers/simulator/run-simulator.js';
 import { loadScenario, parseScenario } from '../../drivers/simulator/scenario.js';
 import { simulateToArrays } from '../../drivers/simulator/simulate.js';
 import { stationForScenario } from '../../drivers/simulator/station-for-scenario.js';
-import { FLAG_SATURATED } from '../../src/config/block.js';
+import { FLAG_SATURATED } from '../../src/domain/block.js';
 
 const scenarios = new URL('../../drivers/simulator/scenarios/', import.meta.url).pathname;
 const tmp = mkdtempSync(join(tmpdir(), 'fw-sim-'));

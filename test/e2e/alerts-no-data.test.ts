@@ -14,7 +14,7 @@ import { spawn } from 'node:child_process';
 import { createServer } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { fileURLToPath } from 'node:url';
-import { startPtyPair, waitFor, type PtyPair } from '../../src/app/pty-pair.js';
+import { startPtyPair, waitFor, type PtyPair } from '../../drivers/pty-pair.js';
 import { runCliAsync, startCli } from '../helpers/cli.js';
 import type { EventJson } from './alerts-helpers.js';
 

@@ -12,7 +12,7 @@ import { join } from 'node:path';
 import { parseScenario } from '../../drivers/simulator/scenario.js';
 import { stationForScenario } from '../../drivers/simulator/station-for-scenario.js';
 import { lookupMaterial } from '../../src/physics/materials.js';
-import { startPtyPair, waitFor, type PtyPair } from '../../src/app/pty-pair.js';
+import { startPtyPair, waitFor, type PtyPair } from '../../drivers/pty-pair.js';
 import { runCli, startCli } from '../helpers/cli.js';
 import { samplesIn } from '../helpers/store.js';
 

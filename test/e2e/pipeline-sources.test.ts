@@ -17,7 +17,7 @@ import { parseStation, type Station } from '../../src/config/station.js';
 import { RunSession } from '../../src/app/run-session.js';
 import { Acquisition } from '../../src/app/acquisition.js';
 import { makeLiveSink } from '../../src/app/live-sink.js';
-import { startPtyPair, waitFor, type PtyPair } from '../../src/app/pty-pair.js';
+import { startPtyPair, waitFor, type PtyPair } from '../../drivers/pty-pair.js';
 import { spawn } from 'node:child_process';
 import { runCli, startCli } from '../helpers/cli.js';
 import { samplesIn } from '../helpers/store.js';

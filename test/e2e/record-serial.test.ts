@@ -10,7 +10,7 @@ import { join } from 'node:path';
 import { spawn } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 import Database from 'better-sqlite3';
-import { startPtyPair, waitFor, type PtyPair } from '../../src/app/pty-pair.js';
+import { startPtyPair, waitFor, type PtyPair } from '../../drivers/pty-pair.js';
 import { writerProcess, writerLine } from '../helpers/pty.js';
 import { runCli, startCli } from '../helpers/cli.js';
 import { readSamples } from '../../db/sample-reader.js';

@@ -1,5 +1,5 @@
 /** Small builders shared by the pipeline tests: seeded numbers and arrays cut into blocks. */
-import type { AngleBlock } from '../../src/config/block.js';
+import type { AngleBlock } from '../../src/domain/block.js';
 
 /** Seeded uniform numbers in [0, 1) (mulberry32). */
 export function rng(seed: number): () => number {

@@ -4,7 +4,7 @@
  */
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
-import { waitFor } from '../../src/app/pty-pair.js';
+import { waitFor } from '../../drivers/pty-pair.js';
 
 export const BIN = fileURLToPath(new URL('../../bin/fibrewatch.js', import.meta.url));
 

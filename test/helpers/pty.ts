@@ -9,7 +9,7 @@ import { spawn } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 
 // the pty pair itself lives in src (the demo uses it too)
-export { startPtyPair, waitFor, type PtyPair } from '../../src/app/pty-pair.js';
+export { startPtyPair, waitFor, type PtyPair } from '../../drivers/pty-pair.js';
 
 /** Line `i` of the writer's test stream (must match test/helpers/pty-writer.mjs). */
 export function writerLine(i: number): string {

@@ -1,7 +1,7 @@
 import { Observable, Subject, from, throwError, concat, of } from 'rxjs';
 import { describe, expect, it } from 'vitest';
 import { blocks as cutBlocks, rng } from '../helpers/blocks.js';
-import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../../src/config/block.js';
+import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../../src/domain/block.js';
 import { clean } from '../../pipelines/clean.js';
 
 const blocks = (t: Float64Array, y: Float64Array, flags: Uint8Array, sizes: number[], temp?: Float64Array) => cutBlocks(t, y, flags, sizes, temp, { hostBase: 1000 });

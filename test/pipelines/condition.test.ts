@@ -1,7 +1,7 @@
 import { Observable, Subject, from } from 'rxjs';
 import { describe, expect, it } from 'vitest';
 import { blocks as cutBlocks, rng } from '../helpers/blocks.js';
-import { FLAG_AFTER_GAP, FLAG_INVALID, type AngleBlock } from '../../src/config/block.js';
+import { FLAG_AFTER_GAP, FLAG_INVALID, type AngleBlock } from '../../src/domain/block.js';
 import { Decimator } from '../../src/analysis/decimate.js';
 import { clean } from '../../pipelines/clean.js';
 import { condition } from '../../pipelines/condition.js';

@@ -1,7 +1,7 @@
 import { Observable, Subject, from } from 'rxjs';
 import { describe, expect, it } from 'vitest';
 import { blocks, rng } from '../helpers/blocks.js';
-import { FLAG_AFTER_GAP, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../../src/config/block.js';
+import { FLAG_AFTER_GAP, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../../src/domain/block.js';
 import { slidingWindows } from '../../pipelines/window.js';
 import type { WindowData } from '../../pipelines/types.js';
 

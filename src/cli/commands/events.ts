@@ -1,8 +1,8 @@
 /** `fibrewatch events RUN [--json]`: alerts and incidents with their times. */
 import { getRun } from '../../../db/runs.js';
 import { listEvents, type EventListing } from '../../../db/events-store.js';
-import { RuntimeError } from '../errors.js';
-import { fmt, isoShort, table } from '../format.js';
+import { RuntimeError } from '../../domain/errors.js';
+import { fmt, isoShort, table } from '../../display/format.js';
 import { withQueryStore } from '../store.js';
 
 export async function eventsCommand(run: number, opts: { db?: string; json?: boolean }): Promise<void> {

@@ -9,8 +9,8 @@ import { getRun } from '../../../db/runs.js';
 import { iterateChunks, listChannels } from '../../../db/sample-reader.js';
 import { listEvents } from '../../../db/events-store.js';
 import { listWindows } from '../../../db/windows-store.js';
-import { RuntimeError } from '../errors.js';
-import { csv } from '../format.js';
+import { RuntimeError } from '../../domain/errors.js';
+import { csv } from '../../display/format.js';
 import { openForQuery } from '../store.js';
 import { WINDOW_COLUMNS, windowRows } from './windows.js';
 

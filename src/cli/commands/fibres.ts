@@ -1,8 +1,8 @@
 /** `fibrewatch fibres` and `fibrewatch fibre NAME`: fibres and their history across runs. */
 import { listFibres } from '../../../db/fibres.js';
-import { fibreHistory } from '../../app/fibre-history.js';
-import { RuntimeError } from '../errors.js';
-import { fmt, isoShort, table, withSigma } from '../format.js';
+import { fibreHistory } from '../../summaries/fibre-history.js';
+import { RuntimeError } from '../../domain/errors.js';
+import { fmt, isoShort, table, withSigma } from '../../display/format.js';
 import { withQueryStore } from '../store.js';
 
 /** Cross-section for display: the diameter of a round fibre, width × thickness of a ribbon, in µm. */

@@ -2,8 +2,8 @@
 import { existsSync } from 'node:fs';
 import { loadStation, stationFromColumns, type Station } from '../../config/station.js';
 import { fitFile, type FileFit } from '../../app/fit-file.js';
-import { UsageError } from '../errors.js';
-import { withSigma, fmt } from '../format.js';
+import { UsageError } from '../../domain/errors.js';
+import { withSigma, fmt } from '../../display/format.js';
 
 export async function fitCommand(files: string[], opts: { station?: string; columns?: string; json?: boolean }): Promise<void> {
   if (opts.station && opts.columns) throw new UsageError('--station and --columns: give one, not both');

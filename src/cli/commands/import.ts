@@ -3,9 +3,9 @@ import { statSync } from 'node:fs';
 import cliProgress from 'cli-progress';
 import { loadStation } from '../../config/station.js';
 import { importFile } from '../../app/import-file.js';
-import { buildSummary } from '../../app/summary.js';
+import { buildSummary } from '../../summaries/show-summary.js';
 import { deleteRun, parseDateArg } from '../../../db/runs.js';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../../domain/errors.js';
 import { openForWrite } from '../store.js';
 import { renderSummary } from './show.js';
 

@@ -1,6 +1,6 @@
 /** `fibrewatch ports [--json]`: serial devices found by scanning /dev (no udevadm needed). */
 import { listPorts, preferredPath } from '../../../drivers/ports.js';
-import { table } from '../format.js';
+import { table } from '../../display/format.js';
 
 export async function portsCommand(opts: { json?: boolean }): Promise<void> {
   const ports = await listPorts();

@@ -2,7 +2,7 @@
 import { loadStation } from '../../config/station.js';
 import { recordRun } from '../../app/record.js';
 import { makeLiveSink } from '../../app/live-sink.js';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../../domain/errors.js';
 import { openForWrite } from '../store.js';
 
 export async function recordCommand(opts: { station: string; db?: string; device?: string; waitForDevice?: boolean }): Promise<void> {

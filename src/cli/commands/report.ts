@@ -1,7 +1,7 @@
 /** `fibrewatch report RUN --out FILE.html`: a self-contained HTML report. */
 import { writeFileSync } from 'node:fs';
 import { renderReport } from '../../report/html-report.js';
-import { RuntimeError } from '../errors.js';
+import { RuntimeError } from '../../domain/errors.js';
 import { withQueryStore } from '../store.js';
 
 export async function reportCommand(run: number, opts: { out: string; db?: string }): Promise<void> {

@@ -1,8 +1,8 @@
 /** `fibrewatch runs`: past runs, filtered by fibre, station and date span. */
 import { openForQuery } from '../store.js';
 import { listRuns, parseDateArg } from '../../../db/runs.js';
-import { UsageError } from '../errors.js';
-import { duration, isoShort, table } from '../format.js';
+import { UsageError } from '../../domain/errors.js';
+import { duration, isoShort, table } from '../../display/format.js';
 
 export async function runsCommand(opts: { fibre?: string; station?: string; since?: string; until?: string; db?: string; json?: boolean }): Promise<void> {
   const date = (flag: string, v?: string) => {

@@ -1,7 +1,7 @@
 /** `fibrewatch show RUN [--json]`: one run's summary. */
 import { openForQuery } from '../store.js';
-import { buildSummary, type ShowSummary } from '../../app/summary.js';
-import { duration, fmt, isoShort, withSigma } from '../format.js';
+import { buildSummary, type ShowSummary } from '../../summaries/show-summary.js';
+import { duration, fmt, isoShort, withSigma } from '../../display/format.js';
 
 export async function showCommand(run: number, opts: { db?: string; json?: boolean }): Promise<void> {
   const db = openForQuery(opts.db);

@@ -1,7 +1,7 @@
 /** `fibrewatch simulate --scenario F --device PATH|-`: the virtual balance on a device path or stdout. */
 import { loadScenario, ScenarioError } from '../../../drivers/simulator/scenario.js';
 import { runSimulator } from '../../../drivers/simulator/run-simulator.js';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../../domain/errors.js';
 
 export async function simulateCommand(opts: { scenario: string; device: string; format?: 'lines' | 'frames'; speed: number; seed: number; duration?: number }): Promise<void> {
   let scenario;

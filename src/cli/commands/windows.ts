@@ -1,9 +1,9 @@
 /** `fibrewatch windows RUN [--json|--csv]`: per-window fit results. */
-import type { WindowResult } from '../../config/results.js';
+import type { WindowResult } from '../../domain/window-result.js';
 import { getRun } from '../../../db/runs.js';
 import { listWindows } from '../../../db/windows-store.js';
-import { RuntimeError, UsageError } from '../errors.js';
-import { csv, table, withSigma, fmt } from '../format.js';
+import { RuntimeError, UsageError } from '../../domain/errors.js';
+import { csv, table, withSigma, fmt } from '../../display/format.js';
 import { withQueryStore } from '../store.js';
 
 /** Columns of a window row, in order (used for the CSV header when a run has no windows yet). */

@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { concat, from, lastValueFrom, throwError, toArray } from 'rxjs';
 import { watchEquilibrium } from '../../../pipelines/watch/watch-equilibrium.js';
 import { simulateWindowSeries } from '../../../bench/watch.js';
-import type { WindowResult } from '../../../src/config/results.js';
+import type { WindowResult } from '../../../src/domain/window-result.js';
 
 const THR_H = 5e-6; // rad/h, the station default
 const THR = THR_H / 3600;

@@ -2,8 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { Subject, tap, type Observable } from 'rxjs';
 import { TestScheduler } from 'rxjs/testing';
 import { watchNoData } from '../../../pipelines/watch/watch-no-data.js';
-import type { AngleBlock } from '../../../src/config/block.js';
-import type { Incident } from '../../../src/config/events.js';
+import type { AngleBlock } from '../../../src/domain/block.js';
+import type { Incident } from '../../../src/domain/events.js';
 
 const block = (t0: number, n = 10): AngleBlock => {
   const t = Float64Array.from({ length: n }, (_, i) => t0 + i * 0.01);

@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { from, lastValueFrom, toArray } from 'rxjs';
 import { watchPeriod } from '../../../pipelines/watch/watch-period.js';
 import { simulateWindowSeries } from '../../../bench/watch.js';
-import type { WindowResult } from '../../../src/config/results.js';
+import type { WindowResult } from '../../../src/domain/window-result.js';
 
 const run = (ws: WindowResult[], o = {}) => lastValueFrom(from(ws).pipe(watchPeriod({ period_change_ppm: 300, ...o }), toArray()));
 

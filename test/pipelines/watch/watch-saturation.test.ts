@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { from, lastValueFrom, toArray } from 'rxjs';
 import { watchSaturation } from '../../../pipelines/watch/watch-saturation.js';
-import { FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../../../src/config/block.js';
+import { FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../../../src/domain/block.js';
 
 /** one-second blocks of 100 samples; `sat` of them saturated */
 const blk = (sec: number, sat: number, other = 0): AngleBlock => {

@@ -7,7 +7,7 @@ import type Database from 'better-sqlite3';
 import { fibreRuns } from '../../db/fibres.js';
 import { iterateWindows } from '../../db/windows-store.js';
 import { summariseWindows } from '../analysis/run-summary.js';
-import { overlapOf } from './summary.js';
+import { overlapOf } from './show-summary.js';
 
 /** One run of a fibre, summarised from its 'ok' windows (SI units). */
 export interface FibreHistoryRow {

@@ -1,5 +1,5 @@
 /** What the station says about the pendulum and fibre, as the fit's derive context and limits. */
-import type { Station } from '../config/station.js';
+import type { Station } from './station.js';
 import type { DeriveContext } from '../analysis/derive.js';
 import { inertiaFromParts } from '../physics/inertia.js';
 import { lookupMaterial } from '../physics/materials.js';

@@ -4,7 +4,7 @@ import { getRun } from '../../db/runs.js';
 import { iterateWindows } from '../../db/windows-store.js';
 import { countEvents, listEvents } from '../../db/events-store.js';
 import { summariseWindows } from '../analysis/run-summary.js';
-import { RuntimeError } from '../cli/errors.js';
+import { RuntimeError } from '../domain/errors.js';
 
 export interface ShowSummary {
   run: number;

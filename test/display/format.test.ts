@@ -3,7 +3,7 @@
  * compact numbers, ISO times, durations, aligned tables and CSV.
  */
 import { describe, expect, it } from 'vitest';
-import { csv, duration, fmt, isoSeconds, isoShort, table, withSigma } from '../../src/cli/format.js';
+import { csv, duration, fmt, isoSeconds, isoShort, table, withSigma } from '../../src/display/format.js';
 
 describe('withSigma', () => {
   // GUM (JCGM 100:2008) §7.2.6: state the uncertainty with at most two significant digits, the value to the same place
