@@ -28,7 +28,7 @@ function source(): Observable<AngleBlock> {
         t[i] = k * DT + (k >= N / 2 ? 30 : 0);
         angle[i] = 2e-3 * Math.cos((2 * Math.PI * t[i]) / PERIOD) + 1e-4 + (k % 10_000 === 17 ? 5e-3 : 0);
       }
-      sub.next({ n, t, angle, flags: new Uint8Array(n), channels: {}, clock: 'device', hostMs: 0 });
+      sub.next({ n, t, angle, flags: new Uint8Array(n), channels: {}, clock: 'device', host_ms: 0 });
     }
     sub.complete();
   });

@@ -83,7 +83,7 @@ function benchSplitPhotodiode(): number {
     a[i] = 1 + s;
     b[i] = 1 - s;
   }
-  const block = { n, t: new Float64Array(n), clock: 'device' as const, hostMs: 0, channels: { a, b } };
+  const block = { n, t: new Float64Array(n), clock: 'device' as const, host_ms: 0, channels: { a, b } };
   const blocks = 100;
   const c0 = process.cpuUsage();
   let check = 0;

@@ -19,7 +19,7 @@ import { benchLatency } from './latency.js';
 
 const BIN = fileURLToPath(new URL('../bin/fibrewatch.js', import.meta.url));
 const DIR = join(tmpdir(), 'fibrewatch-bench-import');
-const RATE_HZ = 20;
+const RATE_Hz = 20;
 
 interface CliRun {
   wall_s: number;
@@ -46,11 +46,11 @@ function runCli(args: string[]): Promise<CliRun> {
 
 /** A bench recording of `days`, generated once and kept in the OS temp dir. */
 async function recording(days: number): Promise<string> {
-  const path = join(DIR, `angle-${days}d-${RATE_HZ}hz.csv`);
+  const path = join(DIR, `angle-${days}d-${RATE_Hz}hz.csv`);
   const marker = path + '.complete';
   if (!existsSync(marker)) {
     const t0 = performance.now();
-    const n = await writeRecording(path, { duration_s: days * 86400, rate_hz: RATE_HZ, period_s: 60 });
+    const n = await writeRecording(path, { duration_s: days * 86400, rate_Hz: RATE_Hz, period_s: 60 });
     writeFileSync(marker, String(n));
     process.stdout.write(`generated ${path}: ${n} lines, ${(statSync(path).size / 1e6).toFixed(0)} MB in ${((performance.now() - t0) / 1000).toFixed(1)} s\n`);
   }
@@ -107,7 +107,7 @@ export async function benchImport(): Promise<Record<string, number>> {
   for (const days of [1, 7]) {
     const file = await recording(days);
     const r = await importOnce(file, st, db);
-    const lines = days * 86400 * RATE_HZ;
+    const lines = days * 86400 * RATE_Hz;
     fig[`import_${days}d_wall_s`] = r.wall_s;
     fig[`import_${days}d_peak_rss_MB`] = r.maxRSS_bytes / MB;
     fig[`import_${days}d_lines_per_s`] = lines / r.wall_s;
@@ -118,9 +118,9 @@ export async function benchImport(): Promise<Record<string, number>> {
 
   // decimation before the fit: the same 6 h of data fitted at ~20 samples per period and at the full 20 Hz;
   // white readout noise only, so the fits' white-noise covariance applies at both rates
-  const short = join(DIR, `angle-6h-${RATE_HZ}hz-white.csv`);
+  const short = join(DIR, `angle-6h-${RATE_Hz}hz-white.csv`);
   if (!existsSync(short + '.complete')) {
-    writeFileSync(short + '.complete', String(await writeRecording(short, { duration_s: 6 * 3600, rate_hz: RATE_HZ, period_s: 60, white_rad: 1e-6, wander_rad: 0 })));
+    writeFileSync(short + '.complete', String(await writeRecording(short, { duration_s: 6 * 3600, rate_Hz: RATE_Hz, period_s: 60, white_rad: 1e-6, wander_rad: 0 })));
   }
   const dbD = join(DIR, 'decimated.db'), dbF = join(DIR, 'full-rate.db');
   const dec = await importOnce(short, st, dbD);

@@ -57,7 +57,7 @@ function writeFramesFile(path: string, n: number): void {
 
 async function ingest(station: Station, file: string, dbFile: string): Promise<{ samples: number; seconds: number }> {
   const db = openStore(dbFile);
-  const session = new RunSession(db, station, { source: 'file', sourcePath: file, startedAtMs: Date.UTC(2026, 0, 1) });
+  const session = new RunSession(db, station, { source: 'file', sourcePath: file, startedAt_ms: Date.UTC(2026, 0, 1) });
   const acq = new Acquisition(station, session);
   const t0 = performance.now();
   await replayFile(file, acq.decoder, (r) => acq.handle(r), { chunkBytes: 1 << 20 });

@@ -22,7 +22,7 @@ export interface LatencyOptions {
   /** wall time of the paced feed, s (default 40) */
   duration_s?: number;
   /** sample rate, Hz (default 50) */
-  rate_hz?: number;
+  rate_Hz?: number;
   /** swing period, s (default 2: short windows so many close during the run) */
   period_s?: number;
 }
@@ -51,7 +51,7 @@ tick();
 /** Measure window-result latency during a live record; returns median and max, s. */
 export async function benchLatency(opts: LatencyOptions = {}): Promise<Record<string, number>> {
   const D = opts.duration_s ?? 40;
-  const rate = opts.rate_hz ?? 50;
+  const rate = opts.rate_Hz ?? 50;
   const T = opts.period_s ?? 2;
   const dir = mkdtempSync(join(tmpdir(), 'fw-bench-latency-'));
   const pty = await startPtyPair(dir);

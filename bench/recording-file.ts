@@ -13,7 +13,7 @@ export interface RecordingSpec {
   /** length of the record, s */
   duration_s: number;
   /** sample rate, Hz (default 20) */
-  rate_hz?: number;
+  rate_Hz?: number;
   /** damped period, s (default 60) */
   period_s?: number;
   /** amplitude at t = 0, rad (default 1e-3) */
@@ -33,7 +33,7 @@ export interface RecordingSpec {
 
 /** Write the recording to `path`; resolves with the number of lines. */
 export async function writeRecording(path: string, spec: RecordingSpec): Promise<number> {
-  const rate = spec.rate_hz ?? 20;
+  const rate = spec.rate_Hz ?? 20;
   const T = spec.period_s ?? 60;
   const A = spec.amplitude_rad ?? 1e-3;
   const tau = spec.decay_time_s ?? 1e6;

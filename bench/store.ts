@@ -47,7 +47,7 @@ export async function benchStore(opts: BenchStoreOptions = {}): Promise<Record<s
   const path = join(dir, 'bench.db');
   try {
     const db = openStore(path);
-    const run = createRun(db, { station: 'bench', fibre: { name: 'bench-fibre' }, startedAtMs: Date.UTC(2026, 0, 1), source: 'simulator', clock: 'device' });
+    const run = createRun(db, { station: 'bench', fibre: { name: 'bench-fibre' }, startedAt_ms: Date.UTC(2026, 0, 1), source: 'simulator', clock: 'device' });
     const w = new SampleWriter(db, run, { deflateFloats: opts.deflateFloats ?? false });
     const rnd = mulberry32(42);
     const t = new Float64Array(B);
@@ -65,7 +65,7 @@ export async function benchStore(opts: BenchStoreOptions = {}): Promise<Record<s
       spare = r * Math.sin(2 * Math.PI * v);
       return r * Math.cos(2 * Math.PI * v);
     };
-    let storeMs = 0;
+    let store_ms = 0;
     for (let i0 = 0; i0 < N; i0 += B) {
       const k = Math.min(B, N - i0);
       for (let j = 0; j < k; j++) {
@@ -76,23 +76,23 @@ export async function benchStore(opts: BenchStoreOptions = {}): Promise<Record<s
       const a = performance.now();
       w.append(t, { angle }, undefined, k);
       w.flushIfDue(Date.now());
-      storeMs += performance.now() - a;
+      store_ms += performance.now() - a;
     }
     const a = performance.now();
     w.flush();
-    storeMs += performance.now() - a;
+    store_ms += performance.now() - a;
     const c0 = performance.now();
     checkpoint(db);
-    const checkpointMs = performance.now() - c0;
+    const checkpoint_ms = performance.now() - c0;
     const rows = (db.prepare('SELECT COUNT(*) AS n FROM sample_chunks').get() as { n: number }).n;
     const payload = (db.prepare('SELECT SUM(LENGTH(value_blob)) AS b FROM sample_chunks').get() as { b: number }).b;
     db.close();
     const fileBytes = statSync(path).size;
     const figures = {
       samples: N,
-      store_seconds: storeMs / 1000,
-      store_samples_per_s: N / (storeMs / 1000),
-      checkpoint_seconds: checkpointMs / 1000,
+      store_seconds: store_ms / 1000,
+      store_samples_per_s: N / (store_ms / 1000),
+      checkpoint_seconds: checkpoint_ms / 1000,
       chunk_rows: rows,
       value_bytes_per_sample: payload / N,
       file_bytes: fileBytes,

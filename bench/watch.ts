@@ -125,7 +125,7 @@ export async function runDriftWatchers(ws: WindowResult[], alerts = { equilibriu
   const src = from(ws);
   return lastValueFrom(merge(
     src.pipe(watchEquilibrium({ threshold_rad_per_hour: alerts.equilibrium_rate_rad_per_hour, horizon_h: alerts.horizon_h })),
-    src.pipe(watchPeriod({ period_change_ppm: alerts.period_change_ppm })),
+    src.pipe(watchPeriod({ periodChange_ppm: alerts.period_change_ppm })),
   ).pipe(toArray()));
 }
 
@@ -163,7 +163,7 @@ export async function benchWatchWindows(opts: { runs?: number; quietRuns?: numbe
     const rnd = makeRng(3000 + r);
     const tStep = 2 * 3600 + rnd.u() * 3600;
     const ws = simulateWindowSeries({ seed: 4000 + r, hours: tStep / 3600 + 1, temp_swing_K: 2, temp_phase_rad: rnd.u() * 2 * Math.PI, period_step: { t_s: tStep, ppm: 500 } });
-    const inc = await lastValueFrom(from(ws).pipe(watchPeriod({ period_change_ppm: 300 }), toArray()));
+    const inc = await lastValueFrom(from(ws).pipe(watchPeriod({ periodChange_ppm: 300 }), toArray()));
     const first = inc.find((i) => i.state === 'raised');
     const firstContaining = ws.findIndex((w) => w.t_end_s > tStep);
     if (!first) { stepMissed++; continue; }
@@ -226,7 +226,7 @@ export async function benchWatchPipeline(opts: { runs?: number; quietWeeks?: num
     const db = openStore(join(dir, `run-${n++}.db`));
     try {
       await runSimulator({ scenario: parseScenario(sc), out: file, speed: 0, seed });
-      const { runId } = await importFile(db, station, file, { startedAtMs: Date.UTC(2026, 0, 5) });
+      const { runId } = await importFile(db, station, file, { startedAt_ms: Date.UTC(2026, 0, 5) });
       return { events: listEvents(db, runId), windows: listWindows(db, runId) };
     } finally {
       db.close();

@@ -9,7 +9,7 @@ export interface OpenStoreOptions {
   /** open read-only (the file must exist and be at the current schema); default false */
   readonly?: boolean;
   /** ms to wait for another connection's lock before SQLITE_BUSY; default 5000 */
-  busyTimeoutMs?: number;
+  busyTimeout_ms?: number;
 }
 
 /** WAL size kept after a checkpoint (bytes); larger WALs are truncated back to this. */
@@ -23,7 +23,7 @@ export function openStore(path: string, opts: OpenStoreOptions = {}): DB {
   const readonly = opts.readonly ?? false;
   const db = new Database(path, { readonly, fileMustExist: readonly });
   try {
-    db.pragma(`busy_timeout = ${Math.max(0, Math.floor(opts.busyTimeoutMs ?? 5000))}`);
+    db.pragma(`busy_timeout = ${Math.max(0, Math.floor(opts.busyTimeout_ms ?? 5000))}`);
     db.pragma('foreign_keys = ON');
     if (readonly) {
       const v = schemaVersion(db);

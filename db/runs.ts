@@ -26,7 +26,7 @@ export interface NewRun {
   /** the fibre (created on first use; given geometry replaces what is stored) */
   fibre: FibreInput;
   /** UTC ms of t_s = 0 */
-  startedAtMs: number;
+  startedAt_ms: number;
   source: RunSource;
   sourcePath?: string;
   /** which clock the samples' times come from; default 'host' */
@@ -65,15 +65,15 @@ export interface RunFilter {
   fibre?: string;
   station?: string;
   /** runs whose span reaches this time or later (inclusive) */
-  sinceMs?: number;
+  since_ms?: number;
   /** runs that started before this time (exclusive) */
-  untilMs?: number;
+  until_ms?: number;
   /** "now" for the end of a run still recording; default Date.now() */
-  nowMs?: number;
+  now_ms?: number;
 }
 
 const iso = (ms: number | null): string | null => (ms === null ? null : new Date(ms).toISOString());
-const checkMs = (what: string, ms: number): number => {
+const checkTime = (what: string, ms: number): number => {
   if (!Number.isFinite(ms)) throw new RangeError(`${what}: must be a finite time in ms, got ${ms}`);
   return Math.round(ms);
 };
@@ -82,7 +82,7 @@ const checkMs = (what: string, ms: number): number => {
 export function createRun(db: Database, r: NewRun): number {
   if (!r.station) throw new Error('createRun: station: must not be empty');
   if (!r.fibre?.name) throw new Error('createRun: fibre.name: must not be empty');
-  const started = checkMs('createRun: startedAtMs', r.startedAtMs);
+  const started = checkTime('createRun: startedAt_ms', r.startedAt_ms);
   return db.transaction(() => {
     const now = Date.now();
     db.prepare(`INSERT INTO stations (name, config_json, updated_at) VALUES (?, ?, ?)
@@ -112,9 +112,9 @@ export function createRun(db: Database, r: NewRun): number {
 }
 
 /** Close a run: set its status and end time (UTC ms). */
-export function endRun(db: Database, runId: number, status: 'complete' | 'interrupted', endedAtMs: number): void {
+export function endRun(db: Database, runId: number, status: 'complete' | 'interrupted', endedAt_ms: number): void {
   if (status !== 'complete' && status !== 'interrupted') throw new Error(`endRun: status: must be "complete" or "interrupted", got "${status}"`);
-  const info = db.prepare('UPDATE runs SET status = ?, ended_at_ms = ? WHERE id = ?').run(status, checkMs('endRun: endedAtMs', endedAtMs), runId);
+  const info = db.prepare('UPDATE runs SET status = ?, ended_at_ms = ? WHERE id = ?').run(status, checkTime('endRun: endedAt_ms', endedAt_ms), runId);
   if (info.changes === 0) throw new Error(`endRun: run ${runId} does not exist`);
 }
 
@@ -164,14 +164,14 @@ const toListing = (r: ListingRow): RunListing => ({
  * and had not ended before `since`.
  */
 export function listRuns(db: Database, f: RunFilter = {}): RunListing[] {
-  const now = f.nowMs ?? Date.now();
+  const now = f.now_ms ?? Date.now();
   const rows = db.prepare(`${LISTING_SELECT}
     WHERE (@fibre IS NULL OR f.name = @fibre)
       AND (@station IS NULL OR s.name = @station)
       AND (@until IS NULL OR r.started_at_ms < @until)
       AND (@since IS NULL OR COALESCE(r.ended_at_ms, MAX(@now, r.started_at_ms)) >= @since)
     ORDER BY r.started_at_ms, r.id`).all({
-    fibre: f.fibre ?? null, station: f.station ?? null, since: f.sinceMs ?? null, until: f.untilMs ?? null, now,
+    fibre: f.fibre ?? null, station: f.station ?? null, since: f.since_ms ?? null, until: f.until_ms ?? null, now,
   }) as ListingRow[];
   return rows.map(toListing);
 }
@@ -226,7 +226,7 @@ export function deleteRun(db: Database, runId: number): boolean {
  * shift by the same amount.
  */
 export function updateRunStartedAt(db: Database, runId: number, ms: number): void {
-  const to = checkMs('updateRunStartedAt: ms', ms);
+  const to = checkTime('updateRunStartedAt: ms', ms);
   db.transaction(() => {
     const r = db.prepare('SELECT started_at_ms FROM runs WHERE id = ?').get(runId) as { started_at_ms: number } | undefined;
     if (!r) throw new Error(`updateRunStartedAt: run ${runId} does not exist`);

@@ -8,7 +8,7 @@ export interface SampleWriterOptions {
   /** samples per chunk row (per channel); default 4096 */
   chunkSamples?: number;
   /** longest time (ms) data may wait in memory before flushIfDue commits it; default 1000 */
-  maxLatencyMs?: number;
+  maxLatency_ms?: number;
   /** sealed chunks held before they are committed without waiting for a flush; default 64 */
   maxPendingChunks?: number;
   /** shuffle + deflate float channels too: about half the bytes, about half the write speed; default false */
@@ -31,7 +31,7 @@ interface PendingRow extends EncodedChunk {
  */
 export class SampleWriter {
   private readonly C: number;
-  private readonly maxLatencyMs: number;
+  private readonly maxLatency_ms: number;
   private readonly maxPending: number;
   private readonly deflateFloats: boolean;
   private readonly tBuf: Float64Array;
@@ -46,7 +46,7 @@ export class SampleWriter {
   private readonly baseSamples: number;
   /** samples in sealed chunks (queued or committed) */
   private sealed = 0;
-  private lastFlushMs: number | undefined;
+  private lastFlush_ms: number | undefined;
   private readonly upsert: Statement;
   private readonly setSamples: Statement;
   private readonly commit: (rows: PendingRow[], samples: number) => void;
@@ -59,10 +59,10 @@ export class SampleWriter {
   constructor(db: Database, readonly runId: number, opts: SampleWriterOptions = {}) {
     const C = opts.chunkSamples ?? 4096;
     if (!Number.isInteger(C) || C < 1 || C > 1 << 20) throw new RangeError(`chunkSamples: must be an integer in 1…${1 << 20}, got ${C}`);
-    const lat = opts.maxLatencyMs ?? 1000;
-    if (!(lat >= 0)) throw new RangeError(`maxLatencyMs: must be ≥ 0, got ${lat}`);
+    const lat = opts.maxLatency_ms ?? 1000;
+    if (!(lat >= 0)) throw new RangeError(`maxLatency_ms: must be ≥ 0, got ${lat}`);
     this.C = C;
-    this.maxLatencyMs = lat;
+    this.maxLatency_ms = lat;
     this.maxPending = Math.max(1, opts.maxPendingChunks ?? 64);
     this.deflateFloats = opts.deflateFloats ?? false;
     this.tBuf = new Float64Array(C);
@@ -136,12 +136,12 @@ export class SampleWriter {
     }
   }
 
-  /** Commit if data has waited maxLatencyMs since the last commit (or never was committed); true if it wrote. */
-  flushIfDue(nowMs: number): boolean {
+  /** Commit if data has waited maxLatency_ms since the last commit (or never was committed); true if it wrote. */
+  flushIfDue(now_ms: number): boolean {
     if (!this.dirty()) return false;
-    if (this.lastFlushMs !== undefined && nowMs - this.lastFlushMs < this.maxLatencyMs) return false;
+    if (this.lastFlush_ms !== undefined && now_ms - this.lastFlush_ms < this.maxLatency_ms) return false;
     this.flush();
-    this.lastFlushMs = nowMs;
+    this.lastFlush_ms = now_ms;
     return true;
   }
 

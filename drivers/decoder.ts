@@ -24,10 +24,10 @@ export interface DecoderStats {
 
 /** Bytes in, blocks out. A block holds what arrived in one push (capped). */
 export interface Decoder {
-  /** Decode one chunk of bytes that arrived at host wall time hostMs (ms since the epoch). */
-  push(chunk: Uint8Array, hostMs: number): DecodeResult;
+  /** Decode one chunk of bytes that arrived at host wall time host_ms (ms since the epoch). */
+  push(chunk: Uint8Array, host_ms: number): DecodeResult;
   /** End of input: decode what is left in the tail and report pending incidents. */
-  flush(hostMs: number): DecodeResult;
+  flush(host_ms: number): DecodeResult;
   /**
    * The byte stream was broken (device lost and back): forget the carried
    * partial record, so its head is never joined to bytes from after the break.

@@ -72,7 +72,7 @@ export class FramesDecoder implements Decoder {
   }
 
   /** Decode the whole frames in the carried tail + chunk; a torn last frame is carried over. */
-  push(chunk: Uint8Array, hostMs: number): DecodeResult {
+  push(chunk: Uint8Array, host_ms: number): DecodeResult {
     let buf = chunk;
     if (this.tail.length > 0) {
       buf = new Uint8Array(this.tail.length + chunk.length);
@@ -80,26 +80,26 @@ export class FramesDecoder implements Decoder {
       buf.set(chunk, this.tail.length);
     }
     const out: DecodeResult = { blocks: [], incidents: [] };
-    this.limiter.due(out.incidents, hostMs);
-    const used = this.scan(buf, hostMs, out);
+    this.limiter.due(out.incidents, host_ms);
+    const used = this.scan(buf, host_ms, out);
     this.tail = buf.slice(used); // < one frame: the capped tail
     return out;
   }
 
   /** End of input: a torn frame left over is counted bad; held incidents are reported. */
-  flush(hostMs: number): DecodeResult {
+  flush(host_ms: number): DecodeResult {
     const out: DecodeResult = { blocks: [], incidents: [] };
     if (this.tail.length > 0) {
-      if (!this.inJunk) this.bad(out, hostMs, this.tail, 0, 'torn frame at end of input');
+      if (!this.inJunk) this.bad(out, host_ms, this.tail, 0, 'torn frame at end of input');
       this.tail = new Uint8Array(0);
     }
     this.inJunk = false;
-    this.limiter.due(out.incidents, hostMs, true);
+    this.limiter.due(out.incidents, host_ms, true);
     return out;
   }
 
   /** Decode whole frames from buf; returns the number of bytes consumed. */
-  private scan(buf: Uint8Array, hostMs: number, out: DecodeResult): number {
+  private scan(buf: Uint8Array, host_ms: number, out: DecodeResult): number {
     const len = buf.length;
     const dv = new DataView(buf.buffer, buf.byteOffset, buf.byteLength);
     const nch = this.nch;
@@ -115,21 +115,21 @@ export class FramesDecoder implements Decoder {
       if (n === 0) return;
       const channels: Partial<Record<ValueRole, Float64Array>> = {};
       for (let r = 0; r < nroles; r++) channels[this.roles[r]] = n === cap ? chans[r] : chans[r].subarray(0, n);
-      const b: RawBlock = { n, t: n === cap ? t : t.subarray(0, n), clock: 'device', hostMs, channels };
+      const b: RawBlock = { n, t: n === cap ? t : t.subarray(0, n), clock: 'device', host_ms, channels };
       out.blocks.push(b);
       n = 0;
     };
     let i = 0;
     while (i < len) {
       if (buf[i] !== SYNC0) {
-        this.junk(out, hostMs, buf, i);
+        this.junk(out, host_ms, buf, i);
         i++;
         continue;
       }
       if (i + 4 > len) break; // header not complete: wait for more bytes
       const cnt = buf[i + 3];
       if (buf[i + 1] !== SYNC1 || buf[i + 2] !== VERSION || cnt < 1 || cnt > 16) {
-        this.junk(out, hostMs, buf, i);
+        this.junk(out, host_ms, buf, i);
         i++;
         continue;
       }
@@ -139,14 +139,14 @@ export class FramesDecoder implements Decoder {
       if (crc16CcittFalse(buf, i + 2, crcAt) !== dv.getUint16(crcAt, true)) {
         // drop it and resynchronise on the next sync pair, which may lie inside this frame
         this.frameNo++;
-        this.bad(out, hostMs, buf, i, 'CRC mismatch', flen);
+        this.bad(out, host_ms, buf, i, 'CRC mismatch', flen);
         this.inJunk = true;
         i++;
         continue;
       }
       this.frameNo++;
       if (cnt !== nch) {
-        this.bad(out, hostMs, buf, i, `frame has ${cnt} channels, the station ${nch}`, flen);
+        this.bad(out, host_ms, buf, i, `frame has ${cnt} channels, the station ${nch}`, flen);
         this.inJunk = true;
         i += flen;
         continue;
@@ -155,19 +155,19 @@ export class FramesDecoder implements Decoder {
       const seq = buf[i + 4] | (buf[i + 5] << 8);
       if (this.haveSeq && seq === this.lastSeq) {
         // the same sequence number again: a repeated frame, not 65535 lost ones
-        this.bad(out, hostMs, buf, i, `repeated sequence number ${seq}`, flen);
+        this.bad(out, host_ms, buf, i, `repeated sequence number ${seq}`, flen);
         i += fl;
         continue;
       }
       let tf = this.clock.next(dv.getUint32(i + 6, true)) * 1e-6 + this.rebase;
       let restarted = false;
       if (this.haveSeq && !(tf > this.lastT)) {
-        tf = this.clockBack(out, hostMs, tf);
+        tf = this.clockBack(out, host_ms, tf);
         restarted = true; // the sequence starts afresh too: its jump says nothing about lost frames
       }
       if (this.haveSeq && !restarted) {
         const lost = (seq - this.lastSeq - 1) & 0xffff;
-        if (lost !== 0) this.gap(out, hostMs, lost, tf);
+        if (lost !== 0) this.gap(out, host_ms, lost, tf);
         else {
           const dt = tf - this.lastT;
           if (dt > 0) this.dtEst = this.dtEst === this.dtEst ? this.dtEst + 0.05 * (dt - this.dtEst) : dt;
@@ -202,7 +202,7 @@ export class FramesDecoder implements Decoder {
    * shift the time base so times stay monotonic, continuing one frame interval
    * after the last sample, and say so.
    */
-  private clockBack(out: DecodeResult, hostMs: number, tf: number): number {
+  private clockBack(out: DecodeResult, host_ms: number, tf: number): number {
     const next = this.lastT + (this.dtEst > 0 ? this.dtEst : 1e-6);
     const step = this.lastT - tf;
     this.rebase += next - tf;
@@ -210,7 +210,7 @@ export class FramesDecoder implements Decoder {
       kind: 'clock-note',
       severity: 'warning',
       t: next,
-      hostMs,
+      host_ms,
       message: `device clock went back by ${step.toPrecision(6)} s (device restart?); times continue from the last sample`,
       value: step,
       data: { step_s: step, rebase_s: this.rebase },
@@ -218,7 +218,7 @@ export class FramesDecoder implements Decoder {
     return next;
   }
 
-  private gap(out: DecodeResult, hostMs: number, lostSeq: number, t: number): void {
+  private gap(out: DecodeResult, host_ms: number, lostSeq: number, t: number): void {
     let lost = lostSeq;
     const span = t - this.lastT;
     if (this.dtEst > 0) {
@@ -234,7 +234,7 @@ export class FramesDecoder implements Decoder {
       kind: 'gap',
       severity: 'warning',
       t: this.lastT,
-      hostMs,
+      host_ms,
       message: `${lost} frame${lost === 1 ? '' : 's'} lost (sequence ${this.lastSeq} → ${(this.lastSeq + lostSeq + 1) & 0xffff}), about ${duration.toPrecision(3)} s`,
       // every gap's value is its duration in seconds; the frame count is in data
       value: duration,
@@ -243,17 +243,17 @@ export class FramesDecoder implements Decoder {
   }
 
   /** A byte that starts no frame: the first of a run counts as one bad record. */
-  private junk(out: DecodeResult, hostMs: number, buf: Uint8Array, i: number): void {
+  private junk(out: DecodeResult, host_ms: number, buf: Uint8Array, i: number): void {
     if (this.inJunk) return;
     this.inJunk = true;
-    this.bad(out, hostMs, buf, i, 'bytes out of sync', 1); // one byte: the snippet must not depend on how the input was split
+    this.bad(out, host_ms, buf, i, 'bytes out of sync', 1); // one byte: the snippet must not depend on how the input was split
   }
 
-  private bad(out: DecodeResult, hostMs: number, buf: Uint8Array, i: number, reason: string, len = 16): void {
+  private bad(out: DecodeResult, host_ms: number, buf: Uint8Array, i: number, reason: string, len = 16): void {
     this.stats.badRecords++;
     const end = Math.min(buf.length, i + Math.min(len, MAX_FRAME));
     let hex = '';
     for (let k = i; k < end; k++) hex += (k > i ? ' ' : '') + buf[k].toString(16).padStart(2, '0');
-    this.limiter.report(out.incidents, hostMs, reason, hex, this.frameNo, this.lastT === this.lastT ? this.lastT : undefined);
+    this.limiter.report(out.incidents, host_ms, reason, hex, this.frameNo, this.lastT === this.lastT ? this.lastT : undefined);
   }
 }

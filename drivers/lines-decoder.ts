@@ -99,7 +99,7 @@ export class LinesDecoder implements Decoder {
   private flushing = false;
   // current push
   private out: DecodeResult = { blocks: [], incidents: [] };
-  private hostMs = 0;
+  private host_ms = 0;
   private n = 0;
   private cap = 0;
   private t = new Float64Array(0);
@@ -133,8 +133,8 @@ export class LinesDecoder implements Decoder {
   }
 
   /** Decode one chunk; a line torn at its end is carried over to the next push. */
-  push(chunk: Uint8Array, hostMs: number): DecodeResult {
-    this.begin(hostMs, chunk.length);
+  push(chunk: Uint8Array, host_ms: number): DecodeResult {
+    this.begin(host_ms, chunk.length);
     this.chunk = chunk;
     const len = chunk.length;
     let pos = 0;
@@ -285,26 +285,26 @@ export class LinesDecoder implements Decoder {
   }
 
   /** End of input: the carried line (a last line without LF) is decoded; held incidents are reported. */
-  flush(hostMs: number): DecodeResult {
-    this.begin(hostMs, this.tailLen);
+  flush(host_ms: number): DecodeResult {
+    this.begin(host_ms, this.tailLen);
     this.flushing = true;
     // a last line without its line end is still a line (files often lack the final LF)
     if (this.tailLen > 0 || this.tailOver) this.takeTail();
-    this.limiter.due(this.out.incidents, hostMs, true);
+    this.limiter.due(this.out.incidents, host_ms, true);
     this.flushing = false;
     return this.end();
   }
 
-  private begin(hostMs: number, bytes: number): void {
+  private begin(host_ms: number, bytes: number): void {
     this.out = { blocks: [], incidents: [] };
-    this.hostMs = hostMs;
+    this.host_ms = host_ms;
     this.remaining = bytes;
     this.n = 0;
     this.cap = 0;
     this.lineInPush = 0;
     this.hostReady = false;
     this.chunk = EMPTY;
-    this.limiter.due(this.out.incidents, hostMs);
+    this.limiter.due(this.out.incidents, host_ms);
   }
 
   private end(): DecodeResult {
@@ -496,7 +496,7 @@ export class LinesDecoder implements Decoder {
       snippet += c >= 32 && c < 127 ? String.fromCharCode(c) : `\\x${c.toString(16).padStart(2, '0')}`;
     }
     if (e > end) snippet += '…';
-    this.limiter.report(this.out.incidents, this.hostMs, reason, snippet, this.lineNo, this.lastT);
+    this.limiter.report(this.out.incidents, this.host_ms, reason, snippet, this.lineNo, this.lastT);
   }
 
   private newBlock(): void {
@@ -521,7 +521,7 @@ export class LinesDecoder implements Decoder {
         n,
         t: n === this.cap ? this.t : this.t.subarray(0, n),
         clock: L.hasTime ? 'device' : 'host',
-        hostMs: this.hostMs,
+        host_ms: this.host_ms,
         channels,
       };
       this.out.blocks.push(block);

@@ -25,7 +25,7 @@ function need(b: RawBlock, role: ValueRole, kind: string): Float64Array {
 }
 
 function angleBlock(b: RawBlock, angle: Float64Array, flags: Uint8Array): AngleBlock {
-  return { n: b.n, t: b.t, clock: b.clock, hostMs: b.hostMs, channels: b.channels, angle, flags };
+  return { n: b.n, t: b.t, clock: b.clock, host_ms: b.host_ms, channels: b.channels, angle, flags };
 }
 
 /** A converter for one sensor; keeps state across blocks (the encoder's wrap count). */

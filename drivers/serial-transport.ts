@@ -21,7 +21,7 @@
  *    (or the loss itself if that connection never delivered any) to the first
  *    chunk after the return — the hole a user sees in the recording. It is
  *    longer than the device's absence by the reconnect latency (≤ one backoff
- *    delay) and whatever the device takes to speak again. `hostMs` is the
+ *    delay) and whatever the device takes to speak again. `host_ms` is the
  *    gap's start; `data.start_ms`/`end_ms` give both ends.
  *  - on `giveup`, a `device-lost` alarm.
  *
@@ -95,14 +95,14 @@ export interface SerialSupervisorOptions {
 
 export interface DownInfo {
   /** host ms of the loss (for the watchdog: when it fired) */
-  atMs: number;
+  at_ms: number;
   /** what happened, e.g. "disconnected: bad file descriptor", "error: …", "no data for 5 s", "open failed: …" */
   reason: string;
 }
 
 export interface UpInfo {
   /** host ms the port opened */
-  atMs: number;
+  at_ms: number;
   /** seconds since the outage began (since start() for the first connection) */
   downFor_s: number;
   /** open attempts this took */
@@ -114,7 +114,7 @@ export interface UpInfo {
 /** Typed events of `SerialSupervisor`. */
 export interface SerialSupervisorEvents {
   /** bytes as they arrive, split anywhere; `chunk` is a view into serialport's read pool: copy it to keep it long */
-  data: [chunk: Buffer, hostMs: number];
+  data: [chunk: Buffer, host_ms: number];
   down: [info: DownInfo];
   up: [info: UpInfo];
   incident: [incident: Incident];
@@ -125,9 +125,9 @@ type State = 'idle' | 'opening' | 'up' | 'closing' | 'waiting' | 'stopped' | 'ga
 
 /** From the loss of a working connection (or start() with waitForDevice) until data flows again. */
 interface Outage {
-  startMs: number;
+  start_ms: number;
   /** last data before the loss, else the loss itself */
-  gapStartMs: number;
+  gapStart_ms: number;
   reason: string;
   /** open attempts so far */
   attempts: number;
@@ -154,7 +154,7 @@ const defaultNow = () => performance.timeOrigin + performance.now();
  *
  * @example
  * const sup = new SerialSupervisor({ path: '/dev/serial/by-id/usb-…-if00', baud: 115200, waitForDevice: true });
- * sup.on('data', (chunk, hostMs) => decoder.push(chunk, hostMs));
+ * sup.on('data', (chunk, host_ms) => decoder.push(chunk, host_ms));
  * sup.on('incident', (inc) => store.event(inc));
  * sup.on('giveup', (err) => shutdown(err));
  * await sup.start();
@@ -183,10 +183,10 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
   private wake: (() => void) | undefined;
   private loop: Promise<void> | undefined;
 
-  private startedMs = 0;
+  private started_ms = 0;
   private connections = 0;
-  private upAtMs = 0;
-  private lastDataMs: number | undefined;
+  private upAt_ms = 0;
+  private lastData_ms: number | undefined;
   /** current outage, while one is open (from loss until data flows again) */
   private outage: Outage | undefined;
   private lastError = '';
@@ -227,7 +227,7 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
    */
   async start(): Promise<void> {
     if (this.state !== 'idle') throw new Error(`SerialSupervisor(${this.path}): start() called twice`);
-    this.startedMs = this.now();
+    this.started_ms = this.now();
     this.state = 'opening';
     if (!this.waitForDevice) {
       const first = this.attempt();
@@ -240,7 +240,7 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
       if (this.isOver()) await this.closePort();
       return;
     }
-    this.outage = { startMs: this.startedMs, gapStartMs: this.startedMs, reason: 'waiting for device', attempts: 0, reopens: 0, reported: false, initial: true };
+    this.outage = { start_ms: this.started_ms, gapStart_ms: this.started_ms, reason: 'waiting for device', attempts: 0, reopens: 0, reported: false, initial: true };
     this.loop = this.reconnectLoop(false);
   }
 
@@ -317,14 +317,14 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
     port.on('data', (chunk: Buffer) => this.onData(port, chunk));
     this.state = 'up';
     this.connections++;
-    this.upAtMs = this.now();
-    this.lastDataMs = undefined;
+    this.upAt_ms = this.now();
+    this.lastData_ms = undefined;
     this.armWatchdog();
     const first = this.connections === 1;
     const o = this.outage;
     const info: UpInfo = {
-      atMs: this.upAtMs,
-      downFor_s: o ? (this.upAtMs - o.startMs) / 1000 : 0,
+      at_ms: this.upAt_ms,
+      downFor_s: o ? (this.upAt_ms - o.start_ms) / 1000 : 0,
       attempts: o ? o.attempts : 1,
       first,
     };
@@ -334,7 +334,7 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
       this.emit('incident', {
         kind: 'reconnect',
         severity: 'warning',
-        hostMs: this.upAtMs,
+        host_ms: this.upAt_ms,
         message: `serial device ${this.path} reconnected after ${info.downFor_s.toFixed(1)} s (${info.attempts} attempt${info.attempts === 1 ? '' : 's'})`,
         value: info.downFor_s,
         data: { path: this.path, attempts: info.attempts, down_s: info.downFor_s, reason: o.reason },
@@ -358,7 +358,7 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
   private onData(port: SerialPortLike, chunk: Buffer): void {
     if (port !== this.port || this.state !== 'up') return;
     const t = this.now();
-    this.lastDataMs = t;
+    this.lastData_ms = t;
     const o = this.outage;
     if (o) {
       this.outage = undefined;
@@ -374,17 +374,17 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
     this.clearWatchdog();
     const t = this.now();
     if (!this.outage) {
-      this.outage = { startMs: t, gapStartMs: this.lastDataMs ?? t, reason, attempts: 0, reopens: 0, reported: false, initial: false };
+      this.outage = { start_ms: t, gapStart_ms: this.lastData_ms ?? t, reason, attempts: 0, reopens: 0, reported: false, initial: false };
       this.emit('incident', {
         kind: 'device-lost',
         severity: 'warning',
-        hostMs: t,
+        host_ms: t,
         message: `serial device ${this.path} lost (${reason}); reconnecting`,
         data: { path: this.path, reason },
       });
     }
     this.lastError = reason;
-    this.emit('down', { atMs: t, reason });
+    this.emit('down', { at_ms: t, reason });
     this.loop = this.reconnectLoop(true);
   }
 
@@ -402,7 +402,7 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
     for (;;) {
       if (this.isOver()) return;
       this.state = 'waiting';
-      const deadline = this.giveUpAtMs();
+      const deadline = this.giveUpAt_ms();
       // checked here too, so a silent device cycling through the watchdog also gives up
       if (deadline !== undefined && this.now() >= deadline) return this.giveUp();
       let delay_ms = nextDelay(retry++, this.minDelay_s, this.maxDelay_s, this.random()) * 1000;
@@ -423,9 +423,9 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
     return this.state === 'stopped' || this.state === 'gave-up';
   }
 
-  private giveUpAtMs(): number | undefined {
+  private giveUpAt_ms(): number | undefined {
     if (this.giveUp_s === undefined || !this.outage) return undefined;
-    return this.outage.startMs + this.giveUp_s * 1000;
+    return this.outage.start_ms + this.giveUp_s * 1000;
   }
 
   private giveUp(): void {
@@ -439,9 +439,9 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
     this.emit('incident', {
       kind: 'device-lost',
       severity: 'alarm',
-      hostMs: this.now(),
+      host_ms: this.now(),
       message: err.message,
-      value: (this.now() - o.startMs) / 1000,
+      value: (this.now() - o.start_ms) / 1000,
       threshold: this.giveUp_s,
       data: { path: this.path, gave_up: true, attempts: o.attempts, last_error: this.lastError },
     });
@@ -491,7 +491,7 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
       const stalled = t - lastTick > every + Math.max(100, every);
       lastTick = t;
       if (stalled || port !== this.port || this.state !== 'up') return; // let pending reads land first
-      const quiet = t - (this.lastDataMs ?? this.upAtMs);
+      const quiet = t - (this.lastData_ms ?? this.upAt_ms);
       if (limit_ms !== undefined && quiet >= limit_ms) return this.onPortTrouble(port, `no data for ${this.noDataTimeout_s} s`);
       if (probe_ms !== undefined && quiet >= probe_ms && t - lastProbe >= probe_ms) {
         lastProbe = t;
@@ -520,17 +520,17 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
     this.watchdog = undefined;
   }
 
-  private emitGap(o: Outage, endMs: number, open: boolean): void {
-    const duration_s = (endMs - o.gapStartMs) / 1000;
+  private emitGap(o: Outage, end_ms: number, open: boolean): void {
+    const duration_s = (end_ms - o.gapStart_ms) / 1000;
     this.emit('incident', {
       kind: 'gap',
       severity: 'warning',
-      hostMs: o.gapStartMs,
+      host_ms: o.gapStart_ms,
       message: open
         ? `no data from ${this.path} for the last ${duration_s.toFixed(2)} s (device still away)`
         : `no data from ${this.path} for ${duration_s.toFixed(2)} s (device away: ${o.reason})`,
       value: duration_s,
-      data: { duration_s, start_ms: o.gapStartMs, end_ms: endMs, path: this.path, reason: o.reason, reopens: o.reopens, open },
+      data: { duration_s, start_ms: o.gapStart_ms, end_ms: end_ms, path: this.path, reason: o.reason, reopens: o.reopens, open },
     });
   }
 

@@ -57,7 +57,7 @@ export function clean(opts: CleanOptions): (source: Observable<AngleBlock>) => O
       let decided = 0; // absolute index of the next sample awaiting its Hampel decision
       let prevT = NaN;
       let clock: AngleBlock['clock'] = 'host';
-      let hostMs = 0;
+      let host_ms = 0;
 
       const advance = (final: boolean): void => {
         const b = buf!;
@@ -104,7 +104,7 @@ export function clean(opts: CleanOptions): (source: Observable<AngleBlock>) => O
         if (decided > b.start) {
           const c = b.copy(b.start, decided);
           b.dropBefore(decided);
-          subscriber.next({ n: c.t.length, t: c.t, angle: c.y, flags: c.flags, channels: c.channels, clock, hostMs });
+          subscriber.next({ n: c.t.length, t: c.t, angle: c.y, flags: c.flags, channels: c.channels, clock, host_ms });
         }
       };
 
@@ -113,7 +113,7 @@ export function clean(opts: CleanOptions): (source: Observable<AngleBlock>) => O
           if (!buf) return;
           try {
             clock = block.clock;
-            hostMs = block.hostMs;
+            host_ms = block.host_ms;
             buf.append(block.t, block.angle, block.flags, block.channels, 0, block.n);
             advance(false);
           } catch (e) {

@@ -49,9 +49,9 @@ export function condition(opts: ConditionOptions): (source: Observable<AngleBloc
       let dec: Decimator | null = opts.sampleInterval_s !== undefined ? make(opts.sampleInterval_s) : null;
       let pending: BlockBuffer | null = dec ? null : new BlockBuffer();
       let closed = false;
-      let last: { clock: AngleBlock['clock']; hostMs: number } = { clock: 'host', hostMs: 0 };
+      let last: { clock: AngleBlock['clock']; host_ms: number } = { clock: 'host', host_ms: 0 };
 
-      const emit = (d: DecimatedSamples, channels: Partial<Record<string, Float64Array>>, like: { clock: AngleBlock['clock']; hostMs: number }): void => {
+      const emit = (d: DecimatedSamples, channels: Partial<Record<string, Float64Array>>, like: { clock: AngleBlock['clock']; host_ms: number }): void => {
         if (d.n === 0) return;
         const out: Record<string, Float64Array> = {};
         for (const [name, v] of Object.entries(channels)) {
@@ -60,10 +60,10 @@ export function condition(opts: ConditionOptions): (source: Observable<AngleBloc
           for (let i = 0; i < d.n; i++) c[i] = v[d.index[i]];
           out[name] = c;
         }
-        subscriber.next({ n: d.n, t: d.t, angle: d.y, flags: d.flags, channels: out, clock: like.clock, hostMs: like.hostMs });
+        subscriber.next({ n: d.n, t: d.t, angle: d.y, flags: d.flags, channels: out, clock: like.clock, host_ms: like.host_ms });
       };
 
-      const drainPending = (like: { clock: AngleBlock['clock']; hostMs: number }, final: boolean): void => {
+      const drainPending = (like: { clock: AngleBlock['clock']; host_ms: number }, final: boolean): void => {
         const p = pending!;
         if (p.length < refN && !final) return;
         const v = p.views();
@@ -87,7 +87,7 @@ export function condition(opts: ConditionOptions): (source: Observable<AngleBloc
         next(block) {
           if (closed) return;
           try {
-            last = { clock: block.clock, hostMs: block.hostMs };
+            last = { clock: block.clock, host_ms: block.host_ms };
             if (dec) {
               emit(dec.process(block.t, block.angle, block.flags, 0, block.n), block.channels, block);
             } else if (pending) {

@@ -19,7 +19,7 @@ export function gapEvents(report: (inc: Incident) => void): (source: Observable<
               if (prev !== undefined) {
                 const duration_s = b.t[i] - prev;
                 report({
-                  kind: 'gap', severity: 'warning', t: prev, hostMs: b.hostMs,
+                  kind: 'gap', severity: 'warning', t: prev, host_ms: b.host_ms,
                   message: `no samples for ${duration_s.toFixed(2)} s (sample times jump)`,
                   value: duration_s, data: { duration_s, from: 'sample-times' },
                 });

@@ -139,7 +139,7 @@ export class Balance {
   private readonly n1 = new Float64Array(2);
 
   constructor(readonly sc: Scenario, readonly rng: Rng) {
-    this.h = 1 / sc.sample_rate_hz;
+    this.h = 1 / sc.sample_rate_Hz;
     this.kT = sc.thermal_noise ? K_BOLTZMANN * sc.temperature_K : 0;
     this.dist = [...sc.disturbances].sort((a, b) => a.t_s - b.t_s);
     if (sc.creep) this.creeps.push({ a: sc.creep.a_rad, tc: sc.creep.tc_s, start: sc.creep.start_s });
@@ -196,7 +196,7 @@ export class Balance {
     const sc = this.sc;
     const n1 = this.n1;
     for (let i = 0; i < n; i++, this.k++) {
-      const t = this.k / this.sc.sample_rate_hz; // k/fs, not k·h: exact decimal times where possible
+      const t = this.k / this.sc.sample_rate_Hz; // k/fs, not k·h: exact decimal times where possible
       // disturbances due at or before this sample
       while (this.nextDist < this.dist.length && this.dist[this.nextDist].t_s <= t) {
         const d = this.dist[this.nextDist++];

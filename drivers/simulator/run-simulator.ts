@@ -29,7 +29,7 @@ export interface RunSimulatorOptions {
   /** wall-time interval between writes in paced mode, ms (default 50) */
   tick_ms?: number;
   /** samples per block when running as fast as possible (default 4096) */
-  block_samples?: number;
+  blockSamples?: number;
   /** called after each write with the simulated time reached, s, and the totals so far */
   onProgress?: (p: { t_s: number; samples: number; bytes: number; total_samples: number }) => void;
 }
@@ -153,8 +153,8 @@ export async function runSimulator(opts: RunSimulatorOptions): Promise<{ samples
   try {
     if (format === 'lines') await emit(linesHeader(sc));
     const start = performance.now();
-    const fs = sc.sample_rate_hz;
-    const cap = opts.block_samples ?? 4096;
+    const fs = sc.sample_rate_Hz;
+    const cap = opts.blockSamples ?? 4096;
     while (src.remaining > 0 && !signal?.aborted && !streamError) {
       let want: number;
       if (fast) want = cap;

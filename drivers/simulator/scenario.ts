@@ -103,7 +103,7 @@ export const scenarioSchema = z.strictObject({
   description: z.string('must be a string').optional(),
   /** length of the run, s */
   duration_s: pos(),
-  sample_rate_hz: pos(),
+  sample_rate_Hz: pos(),
   /** moment of inertia about the fibre, kg·m² (or give pendulum.parts) */
   inertia_kg_m2: pos().optional(),
   pendulum: z.strictObject({ parts: z.array(partSchema).min(1, 'must list at least one part') }).optional(),

@@ -11,7 +11,7 @@ import { sensorChannels } from './sensor-model.js';
 
 /** One block of simulated samples, all arrays of length n. */
 export interface SimBlock {
-  /** index of the first sample in the run (sample k is at t = k/sample_rate_hz) */
+  /** index of the first sample in the run (sample k is at t = k/sample_rate_Hz) */
   i0: number;
   n: number;
   /** time, s since the run's start */
@@ -33,7 +33,7 @@ export const DEFAULT_SEED = 1;
 
 /** Number of samples a run of `duration_s` has at the scenario's rate (samples at t < duration). */
 export function sampleCount(sc: Scenario, duration_s = sc.duration_s): number {
-  return Math.max(0, Math.ceil(duration_s * sc.sample_rate_hz - 1e-9));
+  return Math.max(0, Math.ceil(duration_s * sc.sample_rate_Hz - 1e-9));
 }
 
 /** Generates a scenario's samples block by block; deterministic for a seed. */

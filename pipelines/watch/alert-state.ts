@@ -1,9 +1,9 @@
 /**
  * The alert life cycle shared by every watcher: `raised` once when a
- * condition starts, `updated` at most every `update_every_s` while it
+ * condition starts, `updated` at most every `updateEvery_s` while it
  * persists, `cleared` when it ends — with hysteresis so it does not flap: a
- * raised alert clears only after `clear_after` consecutive evaluations with
- * the statistic below `clear_fraction` × its threshold.
+ * raised alert clears only after `clearAfter` consecutive evaluations with
+ * the statistic below `clearFraction` × its threshold.
  */
 import type { AlertState as State, EventKind, Incident, Severity } from '../../src/domain/events.js';
 
@@ -12,13 +12,13 @@ export interface AlertStateOptions {
   kind: EventKind;
   severity: Severity;
   /** least time between two `updated` incidents, s (default 900 = 15 min) */
-  update_every_s?: number;
+  updateEvery_s?: number;
   /** hysteresis: the statistic must fall below this fraction of its threshold to count as ok (default 0.7) */
-  clear_fraction?: number;
+  clearFraction?: number;
   /** consecutive ok evaluations needed to clear (default 3) */
-  clear_after?: number;
+  clearAfter?: number;
   /** consecutive evaluations over threshold needed to raise (default 1) */
-  raise_after?: number;
+  raiseAfter?: number;
 }
 
 /** One evaluation of a watcher's condition. */
@@ -37,7 +37,7 @@ export interface AlertEvaluation {
   message: (state: State) => string;
   data?: Record<string, unknown>;
   /** host wall time, ms */
-  hostMs?: number;
+  host_ms?: number;
 }
 
 /** A watcher's alert state machine. */
@@ -52,12 +52,12 @@ export interface AlertStateMachine {
 
 /** Create the life-cycle state machine for one alert kind. */
 export function createAlertState(opts: AlertStateOptions): AlertStateMachine {
-  const updateEvery = opts.update_every_s ?? 900;
-  const clearFraction = opts.clear_fraction ?? 0.7;
-  const clearAfter = opts.clear_after ?? 3;
-  const raiseAfter = opts.raise_after ?? 1;
-  if (!(clearFraction > 0 && clearFraction <= 1)) throw new RangeError(`alert-state: clear_fraction must be in (0, 1], got ${clearFraction}`);
-  if (!(clearAfter >= 1) || !(raiseAfter >= 1)) throw new RangeError('alert-state: clear_after and raise_after must be ≥ 1');
+  const updateEvery = opts.updateEvery_s ?? 900;
+  const clearFraction = opts.clearFraction ?? 0.7;
+  const clearAfter = opts.clearAfter ?? 3;
+  const raiseAfter = opts.raiseAfter ?? 1;
+  if (!(clearFraction > 0 && clearFraction <= 1)) throw new RangeError(`alert-state: clearFraction must be in (0, 1], got ${clearFraction}`);
+  if (!(clearAfter >= 1) || !(raiseAfter >= 1)) throw new RangeError('alert-state: clearAfter and raiseAfter must be ≥ 1');
   let active = false;
   let raisedAt = NaN;
   let lastEmit = -Infinity;
@@ -69,7 +69,7 @@ export function createAlertState(opts: AlertStateOptions): AlertStateMachine {
       kind: opts.kind,
       severity: state === 'cleared' ? 'info' : opts.severity,
       t: ev.t,
-      ...(ev.hostMs !== undefined ? { hostMs: ev.hostMs } : {}),
+      ...(ev.host_ms !== undefined ? { host_ms: ev.host_ms } : {}),
       message: ev.message(state),
       value: ev.value,
       threshold: ev.threshold,

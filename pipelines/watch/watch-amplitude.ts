@@ -22,9 +22,9 @@ export interface WatchAmplitudeOptions {
   /** caution appended to amplitude-limit messages (default TWIST_CAUTION) */
   cautionText?: string;
   /** least time between `updated` incidents, s (default 1800) */
-  update_every_s?: number;
+  updateEvery_s?: number;
   /** consecutive windows to clear (default 3) */
-  clear_after?: number;
+  clearAfter?: number;
 }
 
 /** Watch window amplitudes against a floor and the twist limit; emits amplitude-low / amplitude-limit incidents. */
@@ -35,10 +35,10 @@ export function watchAmplitude(opts: WatchAmplitudeOptions) {
   if (limit !== undefined && !(limit > 0)) throw new RangeError(`watchAmplitude: limit_rad must be > 0, got ${limit}`);
   return (source: Observable<WindowResult>) =>
     new Observable<Incident>((sub) => {
-      const common = { update_every_s: opts.update_every_s ?? 1800, clear_after: opts.clear_after ?? 3 };
+      const common = { updateEvery_s: opts.updateEvery_s ?? 1800, clearAfter: opts.clearAfter ?? 3 };
       // amplitude-low clears above 1/0.8 = 1.25 × min; amplitude-limit below 0.9 × limit
-      const low = createAlertState({ kind: 'amplitude-low', severity: 'warning', clear_fraction: 0.8, ...common });
-      const high = createAlertState({ kind: 'amplitude-limit', severity: 'alarm', clear_fraction: 0.9, ...common });
+      const low = createAlertState({ kind: 'amplitude-low', severity: 'warning', clearFraction: 0.8, ...common });
+      const high = createAlertState({ kind: 'amplitude-limit', severity: 'alarm', clearFraction: 0.9, ...common });
       const onWindow = (w: WindowResult) => {
         // a rejected fit's amplitude is not to be trusted (it could cry amplitude-limit on garbage)
         if (w.status !== 'ok' || w.amplitude_rad === null || !Number.isFinite(w.amplitude_rad)) return;

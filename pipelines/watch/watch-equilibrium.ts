@@ -6,7 +6,7 @@
  * Significance rule: raise when |rate| > threshold AND
  * (|rate| − threshold)/σ_rate > z (one-sided, z = 2 by default, ≈ 2.3 %
  * chance that a rate exactly at the threshold raises). Clear after
- * `clear_after` evaluations in a row with |rate| < 0.7 × threshold.
+ * `clearAfter` evaluations in a row with |rate| < 0.7 × threshold.
  * While raised, a log-creep fit over the data since the drift began (at most
  * horizon_h back) gives "settled in about N h".
  */
@@ -22,52 +22,52 @@ export interface WatchEquilibriumOptions {
   /** alert threshold, rad/h (station alerts.equilibrium_rate_rad_per_hour; default 5e-6) */
   threshold_rad_per_hour?: number;
   /** trailing horizon of the rate estimate, s (default 3600) */
-  rate_horizon_s?: number;
+  rateHorizon_s?: number;
   /** longest stretch the creep fit looks back, h (station alerts.horizon_h; default 6) */
   horizon_h?: number;
   /** variance inflation for overlapping windows: window_periods/step_periods (default 4) */
   overlap?: number;
   /** one-sided significance in σ of the excess over the threshold (default 2) */
-  significance_z?: number;
+  significanceZ?: number;
   /**
    * fewest windows the rate is judged on (default 12): when the rate horizon
    * holds fewer (long periods: one window per period), it reaches back to the
-   * last min_points windows, at most max_rate_horizon_s
+   * last minPoints windows, at most maxRateHorizon_s
    */
-  min_points?: number;
-  /** longest the rate horizon is stretched to hold min_points windows, s (default 4·rate_horizon_s) */
-  max_rate_horizon_s?: number;
+  minPoints?: number;
+  /** longest the rate horizon is stretched to hold minPoints windows, s (default 4·rateHorizon_s) */
+  maxRateHorizon_s?: number;
   /** least time between `updated` incidents, s (default 1800) */
-  update_every_s?: number;
+  updateEvery_s?: number;
   /** least time between two refits of the creep model while raised, s (default 600) */
-  creep_refit_s?: number;
+  creepRefit_s?: number;
   /** hysteresis (defaults 0.7 and 3, see alert-state.ts) */
-  clear_fraction?: number;
-  clear_after?: number;
+  clearFraction?: number;
+  clearAfter?: number;
 }
 
 /** Watch the equilibrium of successive windows for drift; emits equilibrium-drift incidents. */
 export function watchEquilibrium(opts: WatchEquilibriumOptions = {}) {
   const thrH = opts.threshold_rad_per_hour ?? 5e-6;
   const thr = thrH / 3600; // rad/s inside
-  const horizon = opts.rate_horizon_s ?? 3600;
+  const horizon = opts.rateHorizon_s ?? 3600;
   const fitHorizon = (opts.horizon_h ?? 6) * 3600;
   const overlap = opts.overlap ?? 4;
-  const z = opts.significance_z ?? 2;
-  const minPoints = opts.min_points ?? 12;
-  const maxHorizon = opts.max_rate_horizon_s ?? 4 * horizon;
+  const z = opts.significanceZ ?? 2;
+  const minPoints = opts.minPoints ?? 12;
+  const maxHorizon = opts.maxRateHorizon_s ?? 4 * horizon;
   if (!(thr > 0)) throw new RangeError(`watchEquilibrium: threshold_rad_per_hour must be > 0, got ${thrH}`);
-  if (!(horizon > 0)) throw new RangeError(`watchEquilibrium: rate_horizon_s must be > 0, got ${horizon}`);
-  const refitEvery = opts.creep_refit_s ?? 600;
-  if (!(minPoints >= 3)) throw new RangeError(`watchEquilibrium: min_points must be ≥ 3, got ${minPoints}`);
-  if (!(maxHorizon >= horizon)) throw new RangeError(`watchEquilibrium: max_rate_horizon_s must be ≥ rate_horizon_s, got ${maxHorizon}`);
+  if (!(horizon > 0)) throw new RangeError(`watchEquilibrium: rateHorizon_s must be > 0, got ${horizon}`);
+  const refitEvery = opts.creepRefit_s ?? 600;
+  if (!(minPoints >= 3)) throw new RangeError(`watchEquilibrium: minPoints must be ≥ 3, got ${minPoints}`);
+  if (!(maxHorizon >= horizon)) throw new RangeError(`watchEquilibrium: maxRateHorizon_s must be ≥ rateHorizon_s, got ${maxHorizon}`);
   const keep = Math.max(maxHorizon, fitHorizon);
   return (source: Observable<WindowResult>) =>
     new Observable<Incident>((sub) => {
       const alert = createAlertState({
         kind: 'equilibrium-drift', severity: 'warning',
-        update_every_s: opts.update_every_s ?? 1800,
-        clear_fraction: opts.clear_fraction, clear_after: opts.clear_after,
+        updateEvery_s: opts.updateEvery_s ?? 1800,
+        clearFraction: opts.clearFraction, clearAfter: opts.clearAfter,
       });
       let ts: number[] = [];
       let ys: number[] = [];
@@ -84,7 +84,7 @@ export function watchEquilibrium(opts: WatchEquilibriumOptions = {}) {
         if (head > 2048) { ts = ts.slice(head); ys = ys.slice(head); ss = ss.slice(head); head = 0; }
         let i0 = ts.length;
         while (i0 > head && ts[i0 - 1] >= t - horizon) i0--;
-        // a long period gives few windows per horizon: reach back to min_points windows (bounded)
+        // a long period gives few windows per horizon: reach back to minPoints windows (bounded)
         if (ts.length - i0 < minPoints && ts.length - head >= minPoints && t - ts[ts.length - minPoints] <= maxHorizon) i0 = ts.length - minPoints;
         if (ts.length - i0 < minPoints || t - ts[i0] < 0.5 * horizon) return;
         const tr = robustTrend(ts.slice(i0), ys.slice(i0), { inflation: overlap });

@@ -13,7 +13,7 @@ import { createAlertState } from './alert-state.js';
 /** Options of watchNoData. */
 export interface WatchNoDataOptions {
   /** silence that raises the alert, s (station alerts.no_data_s) */
-  no_data_s: number;
+  noData_s: number;
   /** clock, ms (default scheduler.now()) */
   now?: () => number;
   /** scheduler of the check timer (default asyncScheduler) */
@@ -21,35 +21,35 @@ export interface WatchNoDataOptions {
   /** interval of the check, s (default min(1, no_data_s/4)) */
   check_s?: number;
   /** least time between `updated` incidents, s (default 600) */
-  update_every_s?: number;
-  /** host wall clock for Incident.hostMs, ms (default Date.now) */
-  wallMs?: () => number;
+  updateEvery_s?: number;
+  /** host wall clock for Incident.host_ms, ms (default Date.now) */
+  wall_ms?: () => number;
 }
 
 /** Watch a block stream for silence; emits no-data incidents (t undefined = host time). */
 export function watchNoData(opts: WatchNoDataOptions) {
-  const limit = opts.no_data_s;
-  if (!(limit > 0)) throw new RangeError(`watchNoData: no_data_s must be > 0, got ${limit}`);
+  const limit = opts.noData_s;
+  if (!(limit > 0)) throw new RangeError(`watchNoData: noData_s must be > 0, got ${limit}`);
   const scheduler = opts.scheduler ?? asyncScheduler;
   const now = opts.now ?? (() => scheduler.now());
-  const checkMs = (opts.check_s ?? Math.min(1, limit / 4)) * 1000;
-  const wallMs = opts.wallMs ?? Date.now;
+  const check_ms = (opts.check_s ?? Math.min(1, limit / 4)) * 1000;
+  const wall_ms = opts.wall_ms ?? Date.now;
   return (source: Observable<AngleBlock>) =>
     new Observable<Incident>((sub) => {
       // clear on the first block after the silence: no hysteresis beyond that
-      const alert = createAlertState({ kind: 'no-data', severity: 'alarm', update_every_s: opts.update_every_s ?? 600, clear_fraction: 1, clear_after: 1 });
+      const alert = createAlertState({ kind: 'no-data', severity: 'alarm', updateEvery_s: opts.updateEvery_s ?? 600, clearFraction: 1, clearAfter: 1 });
       let last = now();
       let lastSampleT: number | null = null;
       // stat: the silence now; shown: the silence the message reports (the whole gap when data is back)
-      const evaluate = (silentMs: number, shownMs = silentMs) => {
-        const silent = shownMs / 1000;
+      const evaluate = (silent_ms: number, shown_ms = silent_ms) => {
+        const silent = shown_ms / 1000;
         const inc = alert.step({
           t: now() / 1000,
-          stat: silentMs / 1000,
+          stat: silent_ms / 1000,
           statThreshold: limit,
           value: silent,
           threshold: limit,
-          hostMs: wallMs(),
+          host_ms: wall_ms(),
           message: (st) => st === 'cleared'
             ? `data back after ${silent.toFixed(1)} s without a block`
             : `no data for ${silent.toFixed(1)} s (limit ${limit} s)`,
@@ -63,8 +63,8 @@ export function watchNoData(opts: WatchNoDataOptions) {
       };
       const timer = scheduler.schedule(function tick() {
         try { evaluate(now() - last); } catch (e) { sub.error(e); return; }
-        this.schedule(undefined, checkMs);
-      }, checkMs);
+        this.schedule(undefined, check_ms);
+      }, check_ms);
       const s = source.subscribe({
         next: (b) => {
           try {

@@ -3,14 +3,14 @@
  * periods relative to a baseline, with the temperature coefficient removed.
  *
  * Baseline: the weighted mean period (and mean temperature) of the first
- * `baseline_windows` ok windows of the run — a fixed reference, so that a
+ * `baselineWindows` ok windows of the run — a fixed reference, so that a
  * slow change is caught as well as a step (a trailing reference would follow
  * it). The temperature coefficient is refitted on every window from the
- * trailing `temp_horizon_s` of windows that were not in alert and within one
- * threshold of the baseline, once their temperatures span `temp_min_span_K`.
+ * trailing `tempHorizon_s` of windows that were not in alert and within one
+ * threshold of the baseline, once their temperatures span `tempMinSpan_K`.
  *
  * Raise rule: CUSUM statistic > h AND the latest window's shift ≥
- * raise_fraction × period_change_ppm on the same side (see the option).
+ * raiseFraction × period_change_ppm on the same side (see the option).
  */
 import { Observable } from 'rxjs';
 import type { Incident } from '../../src/domain/events.js';
@@ -22,17 +22,17 @@ import { createAlertState } from './alert-state.js';
 /** Options of watchPeriod. */
 export interface WatchPeriodOptions {
   /** change to detect, ppm (station alerts.period_change_ppm; default 300) */
-  period_change_ppm?: number;
+  periodChange_ppm?: number;
   /** ok windows averaged for the baseline (default 30) */
-  baseline_windows?: number;
+  baselineWindows?: number;
   /** remove the fitted temperature coefficient (default true) */
-  correct_temperature?: boolean;
+  correctTemperature?: boolean;
   /** coefficient to use until one is fitted, ppm/K (default 0) */
-  temp_coefficient_ppm_per_K?: number;
+  tempCoefficient_ppm_per_K?: number;
   /** trailing horizon of the coefficient fit, s (default 86400) */
-  temp_horizon_s?: number;
+  tempHorizon_s?: number;
   /** least temperature span before the fit is used, K (default 0.3) */
-  temp_min_span_K?: number;
+  tempMinSpan_K?: number;
   /** CUSUM tuning in units of the change (see cusum.ts) */
   cusum?: CusumOptions;
   /**
@@ -40,34 +40,34 @@ export interface WatchPeriodOptions {
    * (default 0.7): the CUSUM (k = ¼) builds up under any sustained shift above 75 ppm of 300, and a daily
    * swing of ±100 ppm with no temperature channel to remove it must not read as a 300 ppm change
    */
-  raise_fraction?: number;
+  raiseFraction?: number;
   /** least time between `updated` incidents, s (default 1800) */
-  update_every_s?: number;
+  updateEvery_s?: number;
   /** hysteresis (defaults 0.7 and 3) */
-  clear_fraction?: number;
-  clear_after?: number;
+  clearFraction?: number;
+  clearAfter?: number;
 }
 
 /** Watch the window periods for a change beyond period_change_ppm; emits period-drift incidents. */
 export function watchPeriod(opts: WatchPeriodOptions = {}) {
-  const ppm = opts.period_change_ppm ?? 300;
+  const ppm = opts.periodChange_ppm ?? 300;
   const delta = ppm * 1e-6;
-  const nBase = opts.baseline_windows ?? 30;
-  const correct = opts.correct_temperature ?? true;
-  const prior = (opts.temp_coefficient_ppm_per_K ?? 0) * 1e-6;
-  const tempHorizon = opts.temp_horizon_s ?? 86400;
-  const minSpan = opts.temp_min_span_K ?? 0.3;
+  const nBase = opts.baselineWindows ?? 30;
+  const correct = opts.correctTemperature ?? true;
+  const prior = (opts.tempCoefficient_ppm_per_K ?? 0) * 1e-6;
+  const tempHorizon = opts.tempHorizon_s ?? 86400;
+  const minSpan = opts.tempMinSpan_K ?? 0.3;
   const co = cusumOptions(opts.cusum);
-  const raiseFrac = opts.raise_fraction ?? 0.7;
-  if (!(raiseFrac >= 0 && raiseFrac <= 1)) throw new RangeError(`watchPeriod: raise_fraction must be in [0, 1], got ${raiseFrac}`);
-  if (!(delta > 0)) throw new RangeError(`watchPeriod: period_change_ppm must be > 0, got ${ppm}`);
-  if (!(nBase >= 1)) throw new RangeError(`watchPeriod: baseline_windows must be ≥ 1, got ${nBase}`);
+  const raiseFrac = opts.raiseFraction ?? 0.7;
+  if (!(raiseFrac >= 0 && raiseFrac <= 1)) throw new RangeError(`watchPeriod: raiseFraction must be in [0, 1], got ${raiseFrac}`);
+  if (!(delta > 0)) throw new RangeError(`watchPeriod: periodChange_ppm must be > 0, got ${ppm}`);
+  if (!(nBase >= 1)) throw new RangeError(`watchPeriod: baselineWindows must be ≥ 1, got ${nBase}`);
   return (source: Observable<WindowResult>) =>
     new Observable<Incident>((sub) => {
       const alert = createAlertState({
         kind: 'period-drift', severity: 'warning',
-        update_every_s: opts.update_every_s ?? 1800,
-        clear_fraction: opts.clear_fraction, clear_after: opts.clear_after,
+        updateEvery_s: opts.updateEvery_s ?? 1800,
+        clearFraction: opts.clearFraction, clearAfter: opts.clearAfter,
       });
       const base: { p: number; s: number; T: number | null }[] = [];
       let pRef = NaN;

@@ -12,23 +12,23 @@ export interface WatchSaturationOptions {
   /** trailing interval, s of sample time (default 60) */
   interval_s?: number;
   /** fraction of saturated samples that raises (default 0.01) */
-  max_fraction?: number;
+  maxFraction?: number;
   /** least time between `updated` incidents, s (default 600) */
-  update_every_s?: number;
+  updateEvery_s?: number;
   /** hysteresis (defaults 0.7 and 3 blocks) */
-  clear_fraction?: number;
-  clear_after?: number;
+  clearFraction?: number;
+  clearAfter?: number;
 }
 
 /** Watch a block stream for saturated samples; emits saturation incidents. */
 export function watchSaturation(opts: WatchSaturationOptions = {}) {
   const interval = opts.interval_s ?? 60;
-  const maxFrac = opts.max_fraction ?? 0.01;
+  const maxFrac = opts.maxFraction ?? 0.01;
   if (!(interval > 0)) throw new RangeError(`watchSaturation: interval_s must be > 0, got ${interval}`);
-  if (!(maxFrac > 0 && maxFrac <= 1)) throw new RangeError(`watchSaturation: max_fraction must be in (0, 1], got ${maxFrac}`);
+  if (!(maxFrac > 0 && maxFrac <= 1)) throw new RangeError(`watchSaturation: maxFraction must be in (0, 1], got ${maxFrac}`);
   return (source: Observable<AngleBlock>) =>
     new Observable<Incident>((sub) => {
-      const alert = createAlertState({ kind: 'saturation', severity: 'warning', update_every_s: opts.update_every_s ?? 600, clear_fraction: opts.clear_fraction, clear_after: opts.clear_after });
+      const alert = createAlertState({ kind: 'saturation', severity: 'warning', updateEvery_s: opts.updateEvery_s ?? 600, clearFraction: opts.clearFraction, clearAfter: opts.clearAfter });
       // per-block tallies in a queue: end time, samples, saturated
       const q: { t: number; n: number; sat: number }[] = [];
       let head = 0, n = 0, sat = 0;

@@ -19,7 +19,7 @@ export interface DispatcherOptions {
   /** fetch for the webhook (default globalThis.fetch) */
   fetch?: typeof fetch;
   /** first webhook backoff delay, s (default 0.5) */
-  webhook_min_delay_s?: number;
+  webhookMinDelay_s?: number;
 }
 
 /** The dispatcher. */
@@ -28,8 +28,8 @@ export interface AlertDispatcher {
   dispatch(a: AlertInput): void;
   /** names of the configured sinks */
   readonly sinks: string[];
-  /** flush within graceMs (default 5000), then stop */
-  close(graceMs?: number): Promise<{ webhook?: WebhookStats; command?: CommandStats }>;
+  /** flush within grace_ms (default 5000), then stop */
+  close(grace_ms?: number): Promise<{ webhook?: WebhookStats; command?: CommandStats }>;
 }
 
 /** Build the sinks from a station's alerts block. */
@@ -38,7 +38,7 @@ export function createDispatcher(alerts: AlertsConfig, opts: DispatcherOptions =
   const onError = opts.onError ?? ((m: string) => { try { err.write(`alert delivery: ${m}\n`); } catch { /* ignore */ } });
   const sinks: { name: string; sink: AlertSink }[] = [];
   if (alerts.stderr) sinks.push({ name: 'stderr', sink: createStderrSink({ stream: err }) });
-  const webhook = alerts.webhook ? createWebhookSink(alerts.webhook, { onError, fetch: opts.fetch, min_delay_s: opts.webhook_min_delay_s }) : undefined;
+  const webhook = alerts.webhook ? createWebhookSink(alerts.webhook, { onError, fetch: opts.fetch, minDelay_s: opts.webhookMinDelay_s }) : undefined;
   if (webhook) sinks.push({ name: 'webhook', sink: webhook });
   const command = alerts.command ? createCommandSink(alerts.command, { onError }) : undefined;
   if (command) sinks.push({ name: 'command', sink: command });
@@ -51,8 +51,8 @@ export function createDispatcher(alerts: AlertsConfig, opts: DispatcherOptions =
         try { s.sink.send(rec); } catch (e) { onError(`${s.name}: ${(e as Error).message}`); }
       }
     },
-    async close(graceMs = 5000) {
-      const [w, c] = await Promise.all([webhook?.close(graceMs), command?.close(graceMs)]);
+    async close(grace_ms = 5000) {
+      const [w, c] = await Promise.all([webhook?.close(grace_ms), command?.close(grace_ms)]);
       return { ...(w ? { webhook: w } : {}), ...(c ? { command: c } : {}) };
     },
   };

@@ -28,16 +28,16 @@ export interface CommandSinkOptions {
   /** problems, one line each (default: nothing) */
   onError?: (message: string) => void;
   /** queue capacity; when full the oldest is dropped (default 1000) */
-  queue_max?: number;
+  queueMax?: number;
   /** grace between SIGTERM and SIGKILL on timeout, ms (default 2000) */
-  kill_grace_ms?: number;
+  killGrace_ms?: number;
 }
 
 /** A command sink with its counters. */
 export interface CommandSink extends AlertSink {
   stats(): CommandStats;
-  /** stop taking alerts and finish the queue; gives up once graceMs (default 5000) pass with no run finishing, or after 10 × graceMs */
-  close(graceMs?: number): Promise<CommandStats>;
+  /** stop taking alerts and finish the queue; gives up once grace_ms (default 5000) pass with no run finishing, or after 10 × grace_ms */
+  close(grace_ms?: number): Promise<CommandStats>;
 }
 
 /** Create a command sink for the station's alerts.command. */
@@ -45,8 +45,8 @@ export function createCommandSink(cfg: CommandConfig, opts: CommandSinkOptions =
   if (!Array.isArray(cfg.argv) || cfg.argv.length < 1 || !cfg.argv[0]) throw new RangeError('alerts.command.argv: must name the program');
   if (!(cfg.timeout_s > 0)) throw new RangeError(`alerts.command.timeout_s: must be > 0, got ${cfg.timeout_s}`);
   const report = opts.onError ?? (() => {});
-  const cap = opts.queue_max ?? 1000;
-  const killGrace = opts.kill_grace_ms ?? 2000;
+  const cap = opts.queueMax ?? 1000;
+  const killGrace = opts.killGrace_ms ?? 2000;
   const q: AlertRecord[] = [];
   const st = { ran: 0, failed: 0, dropped: 0 };
   let running = false;
@@ -113,20 +113,20 @@ export function createCommandSink(cfg: CommandConfig, opts: CommandSinkOptions =
       if (!running) loop = run();
     },
     stats: () => ({ ...st, pending: q.length }),
-    async close(graceMs = 5000) {
+    async close(grace_ms = 5000) {
       closing = true;
       // the grace bounds a stuck queue, not a busy one: it restarts whenever a run finishes (an import
-      // hands over its alerts all at once), up to 10 × graceMs in all
+      // hands over its alerts all at once), up to 10 × grace_ms in all
       const stop = () => { stopped = true; current?.kill('SIGKILL'); };
-      const hard = setTimeout(stop, 10 * graceMs);
-      let timer = setTimeout(stop, graceMs);
+      const hard = setTimeout(stop, 10 * grace_ms);
+      let timer = setTimeout(stop, grace_ms);
       let done = st.ran + st.failed;
       const watch = setInterval(() => {
         if (st.ran + st.failed === done) return;
         done = st.ran + st.failed;
         clearTimeout(timer);
-        timer = setTimeout(stop, graceMs);
-      }, Math.max(10, Math.min(100, graceMs / 10)));
+        timer = setTimeout(stop, grace_ms);
+      }, Math.max(10, Math.min(100, grace_ms / 10)));
       await loop;
       clearTimeout(timer);
       clearTimeout(hard);

@@ -5,8 +5,8 @@ import type { AlertRecord } from './alert-record.js';
 export interface AlertSink {
   /** enqueue one alert; synchronous, never throws, never blocks acquisition */
   send(a: AlertRecord): void;
-  /** deliver what can be delivered within graceMs, then stop */
-  close(graceMs?: number): Promise<unknown>;
+  /** deliver what can be delivered within grace_ms, then stop */
+  close(grace_ms?: number): Promise<unknown>;
 }
 
 /** Options of createStderrSink. */

@@ -39,7 +39,7 @@ export interface WebhookStats {
 /** Options of createWebhookSink. */
 export interface WebhookSinkOptions {
   /** first backoff delay, s (default 0.5); doubles per failed attempt up to max_delay_s */
-  min_delay_s?: number;
+  minDelay_s?: number;
   /** delivery problems, one line each (default: nothing) */
   onError?: (message: string) => void;
   /** fetch implementation (default globalThis.fetch) */
@@ -49,8 +49,8 @@ export interface WebhookSinkOptions {
 /** A webhook sink with its counters. */
 export interface WebhookSink extends AlertSink {
   stats(): WebhookStats;
-  /** stop taking alerts and flush; gives up once graceMs (default 5000) pass without a delivery, or after 10 × graceMs; resolves with the final counters */
-  close(graceMs?: number): Promise<WebhookStats>;
+  /** stop taking alerts and flush; gives up once grace_ms (default 5000) pass without a delivery, or after 10 × grace_ms; resolves with the final counters */
+  close(grace_ms?: number): Promise<WebhookStats>;
 }
 
 /** Create a webhook sink for the station's alerts.webhook. */
@@ -61,7 +61,7 @@ export function createWebhookSink(cfg: WebhookConfig, opts: WebhookSinkOptions =
   if (!(cfg.retries >= 0)) throw new RangeError(`alerts.webhook.retries: must be ≥ 0, got ${cfg.retries}`);
   try { new URL(cfg.url); } catch { throw new RangeError(`alerts.webhook.url: not a URL: ${cfg.url}`); }
   const doFetch = opts.fetch ?? globalThis.fetch;
-  const minDelay = (opts.min_delay_s ?? 0.5) * 1000;
+  const minDelay = (opts.minDelay_s ?? 0.5) * 1000;
   const maxDelay = cfg.max_delay_s * 1000;
   const report = opts.onError ?? (() => {});
   const cap = Math.floor(cfg.queue_max);
@@ -167,15 +167,15 @@ export function createWebhookSink(cfg: WebhookConfig, opts: WebhookSinkOptions =
       if (!running) loop = run();
     },
     stats: () => ({ ...st, pending: size }),
-    async close(graceMs = 5000) {
+    async close(grace_ms = 5000) {
       closing = true;
       // the grace bounds a receiver that is down, not a long queue to a live one: it restarts on every
-      // delivery, up to 10 × graceMs in all
-      const hardEnd = Date.now() + 10 * graceMs;
+      // delivery, up to 10 × grace_ms in all
+      const hardEnd = Date.now() + 10 * grace_ms;
       const stop = () => { stopped = true; inflight?.abort(new Error('closing')); wake?.(); };
       let timer: NodeJS.Timeout;
       const arm = () => {
-        deadline = Math.min(hardEnd, Date.now() + graceMs);
+        deadline = Math.min(hardEnd, Date.now() + grace_ms);
         timer = setTimeout(stop, Math.max(0, deadline - Date.now()));
       };
       arm();

@@ -36,7 +36,7 @@ export interface CusumOptions {
   /** largest x counted from one window (default 0.85) */
   clip?: number;
   /** σ floor s_floor (default 0.25) */
-  sigma_floor?: number;
+  sigmaFloor?: number;
   /** g is held at or below cap so that it falls back quickly once the change ends (default 2·h) */
   cap?: number;
 }
@@ -53,7 +53,7 @@ export interface CusumState {
 /** Defaults filled in. */
 export function cusumOptions(o: CusumOptions = {}): Required<CusumOptions> {
   const h = o.h ?? 0.625;
-  const r = { k: o.k ?? 0.25, h, clip: o.clip ?? 0.85, sigma_floor: o.sigma_floor ?? 0.25, cap: o.cap ?? 2 * h };
+  const r = { k: o.k ?? 0.25, h, clip: o.clip ?? 0.85, sigmaFloor: o.sigmaFloor ?? 0.25, cap: o.cap ?? 2 * h };
   for (const [name, v] of Object.entries(r)) if (!(v > 0)) throw new RangeError(`cusum: ${name} must be > 0, got ${v}`);
   return r;
 }
@@ -69,8 +69,8 @@ export function cusumInit(): CusumState {
  */
 export function cusumStep(s: CusumState, r: number, sigma: number, delta: number, o: Required<CusumOptions>): CusumState {
   const x = r / delta;
-  const sn = Math.max(Number.isFinite(sigma) ? Math.abs(sigma) / delta : Infinity, o.sigma_floor);
-  const w = Math.min(1, (o.sigma_floor / sn) ** 2);
+  const sn = Math.max(Number.isFinite(sigma) ? Math.abs(sigma) / delta : Infinity, o.sigmaFloor);
+  const w = Math.min(1, (o.sigmaFloor / sn) ** 2);
   const up = Math.min(o.cap, Math.max(0, s.up + w * (Math.min(x, o.clip) - o.k)));
   const down = Math.min(o.cap, Math.max(0, s.down + w * (Math.min(-x, o.clip) - o.k)));
   return { up, down, upRun: up > 0 ? s.upRun + 1 : 0, downRun: down > 0 ? s.downRun + 1 : 0 };

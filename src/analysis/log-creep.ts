@@ -36,8 +36,8 @@ export interface LogCreepOptions {
   /** disturbance time, s (default: the first t) */
   t0_s?: number;
   /** search range of t_c, s (default 60 s … 100 × the data span) */
-  t_c_min_s?: number;
-  t_c_max_s?: number;
+  tcMin_s?: number;
+  tcMax_s?: number;
 }
 
 /** Rate of the fitted creep at time t, rad/s. */
@@ -72,8 +72,8 @@ export function fitLogCreep(t: ArrayLike<number>, theta: ArrayLike<number>, sigm
   const tFirst = Math.min(...ts);
   const span = tLast - t0;
   if (!(span > 0)) return null;
-  const lo = Math.log(opts.t_c_min_s ?? 60);
-  const hi = Math.log(opts.t_c_max_s ?? 100 * span);
+  const lo = Math.log(opts.tcMin_s ?? 60);
+  const hi = Math.log(opts.tcMax_s ?? 100 * span);
 
   // χ² profile over t_c with (θ_∞, a) solved linearly
   const solve = (tc: number) => {

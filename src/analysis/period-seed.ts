@@ -50,7 +50,7 @@ export interface PeriodSeed {
   /** why no seed was found: 'too-few-samples', 'non-finite-input', 'non-uniform-sampling', 'no-oscillation', 'bad-input' */
   reason?: string;
   period_s: number;
-  frequency_hz: number;
+  frequency_Hz: number;
   /** amplitude of A·cos(2πf(t − tMid) + φ), same unit as y */
   amplitude: number;
   phase_rad: number;
@@ -66,7 +66,7 @@ export interface PeriodSeed {
 
 function fail(reason: string, tMid = NaN): PeriodSeed {
   return {
-    ok: false, reason, period_s: NaN, frequency_hz: NaN, amplitude: NaN, phase_rad: NaN,
+    ok: false, reason, period_s: NaN, frequency_Hz: NaN, amplitude: NaN, phase_rad: NaN,
     equilibrium: NaN, drift_per_s: NaN, snr: NaN, tMid,
   };
 }
@@ -172,7 +172,7 @@ export function periodSeed(t: Float64Array, y: Float64Array, opts: PeriodSeedOpt
   const lin = linearSineFit(t, y, mask, tMid, freq);
   if (!lin) return fail('no-oscillation', tMid);
   return {
-    ok: true, period_s: 1 / freq, frequency_hz: freq,
+    ok: true, period_s: 1 / freq, frequency_Hz: freq,
     amplitude: Math.hypot(lin[2], lin[3]),
     phase_rad: Math.atan2(-lin[3], lin[2]),
     equilibrium: lin[0], drift_per_s: lin[1], snr, tMid,

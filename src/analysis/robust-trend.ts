@@ -44,7 +44,7 @@ export interface RobustTrendOptions {
    */
   inflation?: number;
   /** thin to at most this many points before the O(n²) pass (default 400) */
-  max_points?: number;
+  maxPoints?: number;
 }
 
 /** Standard normal quantile for p in (0, 1) (Acklam's rational approximation, |rel err| < 1.2e-9). */
@@ -69,7 +69,7 @@ export function normalQuantile(p: number): number {
 export function robustTrend(t: ArrayLike<number>, y: ArrayLike<number>, opts: RobustTrendOptions = {}): RobustTrend | null {
   const confidence = opts.confidence ?? 0.95;
   const inflation = opts.inflation ?? 1;
-  const maxPoints = opts.max_points ?? 400;
+  const maxPoints = opts.maxPoints ?? 400;
   if (t.length !== y.length) throw new RangeError(`robustTrend: t has ${t.length} points, y has ${y.length}`);
   // keep finite points, thinned evenly to maxPoints
   const idx: number[] = [];

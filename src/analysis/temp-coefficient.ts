@@ -26,12 +26,12 @@ export interface TempCoefficient {
 /** Options of fitTempCoefficient. */
 export interface TempCoefficientOptions {
   /** σ floor as a fraction of the period (default 1e-6): one over-confident window must not dominate */
-  sigma_floor_rel?: number;
+  sigmaFloorRel?: number;
 }
 
 /** Weighted regression of period on temperature; null with fewer than 3 usable pairs or no temperature spread. */
 export function fitTempCoefficient(temp_C: ArrayLike<number>, period_s: ArrayLike<number>, sigma_s: ArrayLike<number> | null, opts: TempCoefficientOptions = {}): TempCoefficient | null {
-  const floorRel = opts.sigma_floor_rel ?? 1e-6;
+  const floorRel = opts.sigmaFloorRel ?? 1e-6;
   let n = 0, sw = 0, sx = 0, sy = 0, tMin = Infinity, tMax = -Infinity, pAbs = 0;
   for (let i = 0; i < temp_C.length; i++) if (Number.isFinite(temp_C[i]) && Number.isFinite(period_s[i])) { pAbs += Math.abs(period_s[i]); n++; }
   if (n < 3) return null;

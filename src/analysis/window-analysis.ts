@@ -34,7 +34,7 @@ export interface WindowAnalysisOptions {
   /** multiply every standard uncertainty by this (band-limited noise after decimation; default 1) */
   sigmaScale?: number;
   /** gain of the anti-alias filter at the oscillation frequency: the amplitude is divided by it (default none) */
-  gainAt?: (frequency_hz: number) => number;
+  gainAt?: (frequency_Hz: number) => number;
 }
 
 /** The full result with the fit's covariance kept for callers that need it. */

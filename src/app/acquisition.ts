@@ -28,8 +28,8 @@ export class Acquisition {
   }
 
   /** Bytes as they arrived from the line, with the host time of arrival. */
-  bytes(chunk: Uint8Array, hostMs: number): void {
-    this.handle(this.decoder.push(chunk, hostMs));
+  bytes(chunk: Uint8Array, host_ms: number): void {
+    this.handle(this.decoder.push(chunk, host_ms));
   }
 
   /** The byte stream broke (device lost and back): drop the decoder's partial record. */
@@ -43,8 +43,8 @@ export class Acquisition {
   }
 
   /** The source ended: flush the decoder's tail, then the pipeline. */
-  async end(hostMs = Date.now()): Promise<void> {
-    this.handle(this.decoder.flush(hostMs));
+  async end(host_ms = Date.now()): Promise<void> {
+    this.handle(this.decoder.flush(host_ms));
     await this.sink?.end();
     this.session.flush();
   }

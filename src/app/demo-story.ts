@@ -23,7 +23,7 @@ export function demoStory(hours: number): DemoStory {
     name: 'demo-settling-bench',
     description: 'Invented demo story: settling creep, a room-temperature swing, a period step from a touching shield that later clears, and a late knock.',
     duration_s: D,
-    sample_rate_hz: 10,
+    sample_rate_Hz: 10,
     inertia_kg_m2: inertia,
     fibre: { name: fibre.name, material: fibre.material, diameter_m: fibre.diameter_m, length_m: fibre.length_m },
     q: 2500,

@@ -11,7 +11,7 @@ import { makeLiveSink } from './live-sink.js';
 
 export interface ImportOptions {
   /** UTC ms of the file's first sample; default now minus the record's duration (with a warning) */
-  startedAtMs?: number;
+  startedAt_ms?: number;
   onProgress?: (bytesDone: number, bytesTotal: number) => void;
   onEvent?: (e: StoredEvent) => void;
   log?: (line: string) => void;
@@ -19,12 +19,12 @@ export interface ImportOptions {
 
 export async function importFile(db: Database.Database, station: Station, path: string, opts: ImportOptions = {}): Promise<{ runId: number; samples: number; badRecords: number }> {
   // a provisional start keeps event times sensible until the duration is known
-  const provisional = opts.startedAtMs ?? Date.now();
-  const session = new RunSession(db, station, { source: 'file', sourcePath: path, startedAtMs: provisional, onEvent: opts.onEvent });
+  const provisional = opts.startedAt_ms ?? Date.now();
+  const session = new RunSession(db, station, { source: 'file', sourcePath: path, startedAt_ms: provisional, onEvent: opts.onEvent });
   const acq = new Acquisition(station, session, makeLiveSink(station, session, { live: false, log: opts.log }));
   await replayFile(path, acq.decoder, (r) => acq.handle(r), { onProgress: opts.onProgress });
   await acq.end();
-  if (opts.startedAtMs === undefined) {
+  if (opts.startedAt_ms === undefined) {
     const start = Date.now() - session.lastTime_s * 1000;
     session.setStartedAt(start);
     opts.log?.(`warning: no --started-at given; the run is dated now minus its duration (${new Date(start).toISOString()})`);

@@ -46,10 +46,10 @@ export function makeLiveSink(station: Station, session: RunSession, opts: LiveSi
   const overlap = a.window_periods / a.step_periods;
   const watchers$ = merge(
     p.windows$.pipe(watchEquilibrium({ threshold_rad_per_hour: al.equilibrium_rate_rad_per_hour, horizon_h: al.horizon_h, overlap })),
-    p.windows$.pipe(watchPeriod({ period_change_ppm: al.period_change_ppm })),
+    p.windows$.pipe(watchPeriod({ periodChange_ppm: al.period_change_ppm })),
     p.windows$.pipe(watchAmplitude({ min_rad: al.amplitude_min_rad, limit_rad: lim ? al.twist_fraction * lim.theta_max_rad : undefined })),
     p.cleaned$.pipe(watchSaturation({})),
-    ...(opts.live === false ? [] : [blocks$.pipe(watchNoData({ no_data_s: al.no_data_s }))]),
+    ...(opts.live === false ? [] : [blocks$.pipe(watchNoData({ noData_s: al.no_data_s }))]),
   );
   const subs: Subscription[] = [];
   let failed: Error | undefined;

@@ -47,7 +47,7 @@ export async function recordRun(db: Database.Database, station: Station, opts: R
     giveUp_s: station.input.reconnect.give_up_s,
     waitForDevice: opts.waitForDevice,
   });
-  sup.on('data', (chunk, hostMs) => acq.bytes(chunk, hostMs));
+  sup.on('data', (chunk, host_ms) => acq.bytes(chunk, host_ms));
   sup.on('incident', (inc) => acq.incident(inc));
   sup.on('down', (d) => log(`device ${opts.device} lost (${d.reason}); keeping the run open and retrying`));
   sup.on('up', (u) => {

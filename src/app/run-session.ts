@@ -29,9 +29,9 @@ export interface RunSessionOptions {
   source: 'device' | 'file' | 'simulator';
   sourcePath?: string;
   /** UTC ms of the first sample; default: host time when the first block arrives */
-  startedAtMs?: number;
+  startedAt_ms?: number;
   /** commit cadence, ms (≤ 1000 per ARCHITECTURE.md) */
-  maxLatencyMs?: number;
+  maxLatency_ms?: number;
   meta?: Record<string, unknown>;
   /** called for each stored event (alert delivery, console) */
   onEvent?: (e: StoredEvent) => void;
@@ -50,28 +50,28 @@ export class RunSession {
   readonly runId: number;
   /** time of the first sample on the samples' own time base; run time t_s = t − t0 */
   private t0: number | undefined;
-  private startedAtMs: number | undefined;
+  private startedAt_ms: number | undefined;
   private readonly writer: SampleWriter;
   private readonly pendingEvents: StoredEvent[] = [];
   private lastT_s = 0;
   private readonly raw: ValueRole[];
   private closed = false;
   private readonly windowBuffer: WindowResult[] = [];
-  private lastSideFlushMs = 0;
+  private lastSideFlush_ms = 0;
   private lastGap: { t_s: number; duration_s: number; event: StoredEvent } | undefined;
 
   constructor(private readonly db: Database.Database, private readonly station: Station, private readonly opts: RunSessionOptions) {
-    this.startedAtMs = opts.startedAtMs;
+    this.startedAt_ms = opts.startedAt_ms;
     this.runId = createRun(db, {
       station: station.station,
       stationConfig: station,
       fibre: station.fibre,
-      startedAtMs: opts.startedAtMs ?? Date.now(),
+      startedAt_ms: opts.startedAt_ms ?? Date.now(),
       source: opts.source,
       sourcePath: opts.sourcePath,
       meta: opts.meta,
     });
-    this.writer = new SampleWriter(db, this.runId, { maxLatencyMs: opts.maxLatencyMs ?? 500 });
+    this.writer = new SampleWriter(db, this.runId, { maxLatency_ms: opts.maxLatency_ms ?? 500 });
     this.raw = rawChannelsToStore(station);
   }
 
@@ -85,8 +85,8 @@ export class RunSession {
   }
 
   /** UTC ms of the run's first sample (known after the first block). */
-  get startMs(): number | undefined {
-    return this.startedAtMs;
+  get start_ms(): number | undefined {
+    return this.startedAt_ms;
   }
 
   /**
@@ -97,10 +97,10 @@ export class RunSession {
     if (b.n === 0) return b;
     if (this.t0 === undefined) {
       this.t0 = b.t[0];
-      if (this.startedAtMs === undefined) {
-        // the block's last byte arrived at hostMs; its first sample was earlier by the block's span
-        this.startedAtMs = b.hostMs - (b.t[b.n - 1] - b.t[0]) * 1000;
-        updateRunStartedAt(this.db, this.runId, this.startedAtMs);
+      if (this.startedAt_ms === undefined) {
+        // the block's last byte arrived at host_ms; its first sample was earlier by the block's span
+        this.startedAt_ms = b.host_ms - (b.t[b.n - 1] - b.t[0]) * 1000;
+        updateRunStartedAt(this.db, this.runId, this.startedAt_ms);
       }
     }
     const t = new Float64Array(b.n);
@@ -122,9 +122,9 @@ export class RunSession {
     let t_s: number;
     if (inc.t !== undefined && inc.runTime) t_s = inc.t;
     else if (inc.t !== undefined && this.t0 !== undefined) t_s = inc.t - this.t0;
-    else if (inc.hostMs !== undefined && this.startedAtMs !== undefined) t_s = (inc.hostMs - this.startedAtMs) / 1000;
+    else if (inc.host_ms !== undefined && this.startedAt_ms !== undefined) t_s = (inc.host_ms - this.startedAt_ms) / 1000;
     else t_s = this.lastT_s;
-    const base = this.startedAtMs ?? Date.now();
+    const base = this.startedAt_ms ?? Date.now();
     if (inc.kind === 'gap' && this.sameOutage(t_s, Number(inc.data?.duration_s))) return this.lastGap!.event;
     const e: StoredEvent = {
       t_s, t_ms: base + t_s * 1000, kind: inc.kind, severity: inc.severity, message: inc.message,
@@ -154,10 +154,10 @@ export class RunSession {
   }
 
   /** Commit if the last commit is older than the cadence. */
-  flushIfDue(nowMs: number): void {
+  flushIfDue(now_ms: number): void {
     // events and windows commit on the same cadence even while no samples arrive (a no-data alert)
-    const sideDue = (this.pendingEvents.length > 0 || this.windowBuffer.length > 0) && nowMs - this.lastSideFlushMs >= (this.opts.maxLatencyMs ?? 500);
-    if (this.writer.flushIfDue(nowMs) || sideDue) this.flushSide(nowMs);
+    const sideDue = (this.pendingEvents.length > 0 || this.windowBuffer.length > 0) && now_ms - this.lastSideFlush_ms >= (this.opts.maxLatency_ms ?? 500);
+    if (this.writer.flushIfDue(now_ms) || sideDue) this.flushSide(now_ms);
   }
 
   /** Commit everything buffered now. */
@@ -166,15 +166,15 @@ export class RunSession {
     this.flushSide();
   }
 
-  private flushSide(nowMs = Date.now()): void {
-    this.lastSideFlushMs = nowMs;
+  private flushSide(now_ms = Date.now()): void {
+    this.lastSideFlush_ms = now_ms;
     if (this.pendingEvents.length) insertEvents(this.db, this.runId, this.pendingEvents.splice(0));
     if (this.windowBuffer.length) insertWindows(this.db, this.runId, this.windowBuffer.splice(0));
   }
 
   /** Set the run's start after the fact (import without --started-at). */
   setStartedAt(ms: number): void {
-    this.startedAtMs = ms;
+    this.startedAt_ms = ms;
     updateRunStartedAt(this.db, this.runId, ms);
   }
 
@@ -183,7 +183,7 @@ export class RunSession {
     if (this.closed) return;
     this.closed = true;
     this.flush();
-    const end = (this.startedAtMs ?? Date.now()) + this.lastT_s * 1000;
+    const end = (this.startedAt_ms ?? Date.now()) + this.lastT_s * 1000;
     endRun(this.db, this.runId, status, end);
   }
 }

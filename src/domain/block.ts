@@ -29,7 +29,7 @@ export interface RawBlock {
   /** which clock `t` comes from */
   clock: 'device' | 'host';
   /** host wall time (ms since the Unix epoch, UTC) when the block's last byte arrived */
-  hostMs: number;
+  host_ms: number;
   /** one array per value role present (raw units: counts, detector units, metres, °C …) */
   channels: Partial<Record<ValueRole, Float64Array>>;
 }

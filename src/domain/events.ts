@@ -23,7 +23,7 @@ export interface Incident {
   /** time on the samples' time base, seconds; undefined = "now" (host time) */
   t?: number;
   /** host wall time, ms since the epoch, when known */
-  hostMs?: number;
+  host_ms?: number;
   message: string;
   value?: number | null;
   threshold?: number | null;

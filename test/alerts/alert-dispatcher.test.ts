@@ -14,7 +14,7 @@ afterEach(async () => { await Promise.all(servers.splice(0).map((s) => new Promi
 
 const input = (i: number): AlertInput => ({
   run: 12, station: 'bench-a', t: `2026-03-0${i + 1}T10:00:00.000Z`, t_s: 3600 * i, kind: 'equilibrium-drift', severity: 'warning',
-  state: 'raised', message: `equilibrium drifting at +1.2${i}e-5 ± 4.00e-8 rad/h`, value: 3.4e-9, threshold: 1.39e-9, hostMs: 123, data: { unit: 'rad/s' },
+  state: 'raised', message: `equilibrium drifting at +1.2${i}e-5 ± 4.00e-8 rad/h`, value: 3.4e-9, threshold: 1.39e-9, host_ms: 123, data: { unit: 'rad/s' },
 });
 
 describe('createDispatcher', () => {
@@ -40,7 +40,7 @@ describe('createDispatcher', () => {
     const st = await d.close(10_000);
     expect(st).toEqual({ webhook: { delivered: 2, failed: 0, dropped: 0, pending: 0 }, command: { ran: 2, failed: 0, dropped: 0, pending: 0 } });
     const rec0 = alertRecord(input(0));
-    expect(rec0).not.toHaveProperty('hostMs');
+    expect(rec0).not.toHaveProperty('host_ms');
     expect(lines).toEqual([formatAlertLine(rec0) + '\n', formatAlertLine(alertRecord(input(1))) + '\n']);
     expect(lines[0]).toBe('2026-03-01T10:00:00.000Z alert bench-a run 12 equilibrium-drift raised [warning] equilibrium drifting at +1.20e-5 ± 4.00e-8 rad/h\n');
     expect(posted).toEqual([rec0, alertRecord(input(1))]);

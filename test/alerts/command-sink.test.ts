@@ -38,7 +38,7 @@ describe('command sink', () => {
 
     const dir = mkdtempSync(join(tmpdir(), 'fw-cmd-'));
     const marker = join(dir, 'late');
-    const slow = createCommandSink({ argv: [process.execPath, '-e', `setTimeout(()=>require('fs').writeFileSync(${JSON.stringify(marker)},'x'),5000)`], timeout_s: 0.3 }, { onError: (e) => errors.push(e), kill_grace_ms: 200 });
+    const slow = createCommandSink({ argv: [process.execPath, '-e', `setTimeout(()=>require('fs').writeFileSync(${JSON.stringify(marker)},'x'),5000)`], timeout_s: 0.3 }, { onError: (e) => errors.push(e), killGrace_ms: 200 });
     const t0 = Date.now();
     slow.send(alert(2));
     expect(await slow.close(10_000)).toMatchObject({ failed: 1 });

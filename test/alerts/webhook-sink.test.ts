@@ -55,7 +55,7 @@ describe('webhook sink on a real local HTTP server', () => {
     const srv = await listen(handler);
     const port = (srv.address() as AddressInfo).port;
     const errors: string[] = [];
-    const sink = createWebhookSink(cfg(`http://127.0.0.1:${port}/`), { min_delay_s: 0.02, onError: (m) => errors.push(m) });
+    const sink = createWebhookSink(cfg(`http://127.0.0.1:${port}/`), { minDelay_s: 0.02, onError: (m) => errors.push(m) });
     sink.send(alert(0));
     sink.send(alert(1));
     await waitFor(() => got.length === 2);
@@ -80,7 +80,7 @@ describe('webhook sink on a real local HTTP server', () => {
     const probe = await listen(handler);
     const port = (probe.address() as AddressInfo).port;
     await stop(probe); // start down: the receiver comes up late
-    const sink = createWebhookSink(cfg(`http://127.0.0.1:${port}/`, { queue_max: 4 }), { min_delay_s: 0.02 });
+    const sink = createWebhookSink(cfg(`http://127.0.0.1:${port}/`, { queue_max: 4 }), { minDelay_s: 0.02 });
     for (let i = 0; i < 10; i++) sink.send(alert(i));
     // alert 0 is in flight when the rest arrive; 1–5 are pushed out by 6–9 (ring of 4 holds 0→ then 6..9)
     expect(sink.stats().dropped).toBe(6);
@@ -107,7 +107,7 @@ describe('webhook sink on a real local HTTP server', () => {
       res.end();
     });
     const errors: string[] = [];
-    const sink = createWebhookSink(cfg(`http://127.0.0.1:${(srv.address() as AddressInfo).port}/`, { timeout_s: 0.3 }), { min_delay_s: 0.02, onError: (e) => errors.push(e) });
+    const sink = createWebhookSink(cfg(`http://127.0.0.1:${(srv.address() as AddressInfo).port}/`, { timeout_s: 0.3 }), { minDelay_s: 0.02, onError: (e) => errors.push(e) });
     const t0 = Date.now();
     for (let i = 0; i < 4; i++) sink.send(alert(i));
     await waitFor(() => got.includes('alert 3'));
@@ -123,7 +123,7 @@ describe('webhook sink on a real local HTTP server', () => {
     const port = (probe.address() as AddressInfo).port;
     await stop(probe);
     const errors: string[] = [];
-    const sink = createWebhookSink(cfg(`http://127.0.0.1:${port}/`, { max_delay_s: 10 }), { min_delay_s: 5, onError: (e) => errors.push(e) });
+    const sink = createWebhookSink(cfg(`http://127.0.0.1:${port}/`, { max_delay_s: 10 }), { minDelay_s: 5, onError: (e) => errors.push(e) });
     sink.send(alert(0));
     sink.send(alert(1));
     const t0 = Date.now();
@@ -152,7 +152,7 @@ describe('webhook sink on a real local HTTP server', () => {
     const port = (probe.address() as AddressInfo).port;
     await stop(probe);
     const errors: string[] = [];
-    const sink = createWebhookSink(cfg(`http://127.0.0.1:${port}/`, { retries: 2 }), { min_delay_s: 0.01, onError: (e) => errors.push(e) });
+    const sink = createWebhookSink(cfg(`http://127.0.0.1:${port}/`, { retries: 2 }), { minDelay_s: 0.01, onError: (e) => errors.push(e) });
     sink.send(alert(0));
     sink.send(alert(1));
     await waitFor(() => sink.stats().failed === 2);

@@ -19,7 +19,7 @@ describe('periodSeed', () => {
     expect(s.ok).toBe(true);
     expect(s.tMid).toBeCloseTo(tMid, 9);
     expect(Math.abs(s.period_s / 60 - 1)).toBeLessThan(1e-3);
-    expect(s.frequency_hz).toBeCloseTo(1 / s.period_s, 12);
+    expect(s.frequency_Hz).toBeCloseTo(1 / s.period_s, 12);
     expect(Math.abs(s.amplitude / 1e-3 - 1)).toBeLessThan(1e-3);
     expect(Math.abs(s.phase_rad - 0.3)).toBeLessThan(1e-2);
     expect(Math.abs(s.equilibrium - 0.02)).toBeLessThan(1e-5);
@@ -51,7 +51,7 @@ describe('periodSeed', () => {
     for (let j = 2; j < nfft / 2; j++) if (p[j] > p[k]) k = j;
     const l0 = Math.log(p[k - 1]), l1 = Math.log(p[k]), l2 = Math.log(p[k + 1]);
     const f = (k + (0.5 * (l0 - l2)) / (l0 - 2 * l1 + l2)) / (nfft * 0.5);
-    expect(Math.abs(s.frequency_hz / f - 1)).toBeLessThan(1e-9);
+    expect(Math.abs(s.frequency_Hz / f - 1)).toBeLessThan(1e-9);
   });
 
   it('masked samples (set to the trend) do not spoil the seed', () => {

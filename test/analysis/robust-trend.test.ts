@@ -82,11 +82,11 @@ describe('robustTrend (Theil–Sen, Sen 1968 interval)', () => {
     expect(cover / trials).toBeLessThan(0.99);
   });
 
-  it('thins to max_points, inflates σ, and returns null on too few points', () => {
+  it('thins to maxPoints, inflates σ, and returns null on too few points', () => {
     const t = Array.from({ length: 1000 }, (_, i) => i);
     const y = t.map((x) => 2 * x + Math.sin(x));
-    const a = robustTrend(t, y, { max_points: 200 })!;
-    const b = robustTrend(t, y, { max_points: 200, inflation: 4 })!;
+    const a = robustTrend(t, y, { maxPoints: 200 })!;
+    const b = robustTrend(t, y, { maxPoints: 200, inflation: 4 })!;
     expect(a.n).toBe(200);
     expect(a.slope).toBeCloseTo(2, 2);
     expect(b.slope_sigma).toBeCloseTo(2 * a.slope_sigma, 15);

@@ -77,13 +77,13 @@ describe('runs', () => {
       expect(r.status).toBe('complete');
       // the run ends at its last sample: one sample interval short of the simulated length
       const len = (Date.parse(r.ended_at as string) - Date.parse(r.started_at as string)) / 1000;
-      expect(len).toBeCloseTo(runs[i].duration_s - 1 / runs[i].sample_rate_hz, 2);
+      expect(len).toBeCloseTo(runs[i].duration_s - 1 / runs[i].sample_rate_Hz, 2);
     }
     // samples: what was recorded, less the dropout of run 1
-    expect(rows[1].samples).toBe(runs[1].duration_s * runs[1].sample_rate_hz);
-    expect(rows[2].samples).toBe(runs[2].duration_s * runs[2].sample_rate_hz);
-    const lost = runs[0].dropouts.reduce((s, d) => s + d.duration_s * runs[0].sample_rate_hz, 0);
-    expect(Math.abs((rows[0].samples as number) - (runs[0].duration_s * runs[0].sample_rate_hz - lost))).toBeLessThanOrEqual(2);
+    expect(rows[1].samples).toBe(runs[1].duration_s * runs[1].sample_rate_Hz);
+    expect(rows[2].samples).toBe(runs[2].duration_s * runs[2].sample_rate_Hz);
+    const lost = runs[0].dropouts.reduce((s, d) => s + d.duration_s * runs[0].sample_rate_Hz, 0);
+    expect(Math.abs((rows[0].samples as number) - (runs[0].duration_s * runs[0].sample_rate_Hz - lost))).toBeLessThanOrEqual(2);
   });
 
   it('filters by fibre and station', async () => {
@@ -362,12 +362,12 @@ describe('export', () => {
     const r = cli('export', '2', '--what', 'samples', '--format', 'csv');
     expect(r.status).toBe(0);
     const rows = r.stdout.trimEnd().split('\n').slice(1).map((l) => l.split(',').map(Number));
-    expect(rows.length).toBe(runs[1].duration_s * runs[1].sample_rate_hz);
+    expect(rows.length).toBe(runs[1].duration_s * runs[1].sample_rate_Hz);
     // the swing the scenario started with (4 mrad), not counts or micro-radians
     const peak = Math.max(...rows.slice(0, 300).map((x) => Math.abs(x[1] - 1e-3)));
     expect(peak).toBeGreaterThan(3.5e-3);
     expect(peak).toBeLessThan(4.5e-3);
-    expect(rows[1][0] - rows[0][0]).toBeCloseTo(1 / runs[1].sample_rate_hz, 6);
+    expect(rows[1][0] - rows[0][0]).toBeCloseTo(1 / runs[1].sample_rate_Hz, 6);
   });
 
   it('windows and events as JSON equal the windows/events commands; as CSV they have a header and a row each', () => {

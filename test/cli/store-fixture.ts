@@ -18,7 +18,7 @@ export interface FixtureRun {
   started_at: string;
   /** simulated length, s */
   duration_s: number;
-  sample_rate_hz: number;
+  sample_rate_Hz: number;
   /** the recording and the station file it was imported with */
   file: string;
   stationFile: string;
@@ -44,7 +44,7 @@ interface Spec {
 }
 
 const base = (name: string, kappa: number, I: number, duration_s: number): Omit<ScenarioInput, 'output'> => ({
-  name, duration_s, sample_rate_hz: 10, inertia_kg_m2: I, kappa_Nm_per_rad: kappa, q: 800,
+  name, duration_s, sample_rate_Hz: 10, inertia_kg_m2: I, kappa_Nm_per_rad: kappa, q: 800,
   thermal_noise: false, angle_noise_rad: 2e-7,
   initial: { amplitude_rad: 0.004, phase_rad: 0.4, equilibrium_rad: 1e-3 },
 });
@@ -63,7 +63,7 @@ function specs(): Spec[] {
         alerts: { equilibrium_rate_rad_per_hour: 5e-6, period_change_ppm: 300, no_data_s: 20, stderr: false },
       },
       scenario: {
-        ...base('cli-a', kA, I, 2400), sample_rate_hz: 5,
+        ...base('cli-a', kA, I, 2400), sample_rate_Hz: 5,
         creep: { a_rad: 4e-5, tc_s: 600, start_s: 0 },
         dropouts: [{ t_s: 600, duration_s: 30 }],
         period_steps: [{ t_s: 1500, ppm: 2000 }],
@@ -111,7 +111,7 @@ export async function buildStore(dir: string): Promise<{ db: string; runs: Fixtu
     const st = s.station as { station: string; fibre: { name: string; diameter_m?: number }; pendulum?: { inertia_kg_m2?: number } };
     runs.push({
       run: summary.run, station: st.station, fibre: st.fibre.name, started_at: s.started_at,
-      duration_s: sc.duration_s, sample_rate_hz: sc.sample_rate_hz, file, stationFile,
+      duration_s: sc.duration_s, sample_rate_Hz: sc.sample_rate_Hz, file, stationFile,
       inertia_kg_m2: sc.I, kappa_Nm_per_rad: sc.kappa,
       hasInertia: st.pendulum?.inertia_kg_m2 !== undefined, hasGeometry: st.fibre.diameter_m !== undefined,
       dropouts: sc.dropouts,

@@ -15,7 +15,7 @@ let rec: string;
 let scenarioFile: string;
 let stationFile: string;
 const DURATION_S = 300;
-const RATE_HZ = 10;
+const RATE_Hz = 10;
 
 /** stderr without commander's hints in parentheses ("(run with --help for usage)", "(Did you mean …?)"). */
 const complaint = (r: CliResult) => r.stderr.trim().split('\n').filter((l) => !/^\((run with --help|Did you mean)/.test(l)).join('\n');
@@ -25,7 +25,7 @@ beforeAll(async () => {
   scenarioFile = join(dir, 'scenario.json');
   // invented scenario: a 20 s swing read as an angle, no thermal noise
   writeFileSync(scenarioFile, JSON.stringify({
-    name: 'usage', duration_s: DURATION_S, sample_rate_hz: RATE_HZ, inertia_kg_m2: 8e-8, kappa_Nm_per_rad: 7.9e-9, q: 500,
+    name: 'usage', duration_s: DURATION_S, sample_rate_Hz: RATE_Hz, inertia_kg_m2: 8e-8, kappa_Nm_per_rad: 7.9e-9, q: 500,
     thermal_noise: false, angle_noise_rad: 1e-7, initial: { amplitude_rad: 0.003, phase_rad: 0, equilibrium_rad: 0 },
     sensor: { kind: 'angle' }, output: { format: 'lines', columns: ['t_s', 'angle_rad'] },
   }));
@@ -47,7 +47,7 @@ describe('simulate', () => {
     expect(rows.status, rows.stderr).toBe(0);
     const lines = rows.stdout.trimEnd().split('\n');
     const data = lines.filter((l) => !l.startsWith('#'));
-    expect(data.length).toBe(10 * RATE_HZ);
+    expect(data.length).toBe(10 * RATE_Hz);
     expect(data[0].split(',').map(Number)[0]).toBe(0);
     for (const l of data) expect(l).toMatch(/^[-0-9.e]+,[-0-9.e]+$/);
     // the same seed gives the same bytes
@@ -58,7 +58,7 @@ describe('simulate', () => {
 
   it('refuses a bad scenario with exit 2 naming the field', () => {
     const bad = join(dir, 'bad-scenario.json');
-    writeFileSync(bad, JSON.stringify({ name: 'x', duration_s: -5, sample_rate_hz: 10, inertia_kg_m2: 1e-7, kappa_Nm_per_rad: 1e-8, q: 10, output: { format: 'lines' } }));
+    writeFileSync(bad, JSON.stringify({ name: 'x', duration_s: -5, sample_rate_Hz: 10, inertia_kg_m2: 1e-7, kappa_Nm_per_rad: 1e-8, q: 10, output: { format: 'lines' } }));
     const r = runCli(['simulate', '--scenario', bad, '--device', '-', '--speed', '0']);
     expect(r.status).toBe(2);
     expect(r.stdout).toBe('');
@@ -73,7 +73,7 @@ describe('import', () => {
     expect(r.status, r.stderr).toBe(0);
     const s = JSON.parse(r.stdout);
     expect(s.started_at).toBe('2025-11-30T23:59:30.000Z');
-    expect(s.samples).toBe(DURATION_S * RATE_HZ);
+    expect(s.samples).toBe(DURATION_S * RATE_Hz);
     expect(r.stderr).not.toMatch(/warning: no --started-at/);
     const show = runCli(['show', String(s.run), '--db', db, '--json']);
     expect(JSON.parse(show.stdout)).toEqual(s);
@@ -101,7 +101,7 @@ describe('import', () => {
     expect(r.status, r.stderr).toBe(0);
     expect(r.stderr).toMatch(/warning: no --started-at/);
     const s = JSON.parse(r.stdout);
-    const last_s = DURATION_S - 1 / RATE_HZ;
+    const last_s = DURATION_S - 1 / RATE_Hz;
     const start = Date.parse(s.started_at);
     expect(start).toBeGreaterThanOrEqual(before - last_s * 1000 - 1);
     expect(start).toBeLessThanOrEqual(after - last_s * 1000 + 1);
@@ -164,7 +164,7 @@ describe('import', () => {
     const sc = join(dir, 'frames-scenario.json');
     // invented: 400 s of frames with a 20 s dropout at 200 s; small enough to be decoded from a single read
     writeFileSync(sc, JSON.stringify({
-      name: 'frames-gap', duration_s: 400, sample_rate_hz: 10, inertia_kg_m2: 8e-8, kappa_Nm_per_rad: 7.9e-9, q: 500, thermal_noise: false,
+      name: 'frames-gap', duration_s: 400, sample_rate_Hz: 10, inertia_kg_m2: 8e-8, kappa_Nm_per_rad: 7.9e-9, q: 500, thermal_noise: false,
       initial: { amplitude_rad: 0.003 }, dropouts: [{ t_s: 200, duration_s: 20 }],
       output: { format: 'frames', channels: [{ role: 'angle_rad', scale: 1e-9 }] },
     }));

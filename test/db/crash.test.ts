@@ -28,7 +28,7 @@ describe('a killed recorder', () => {
       import { createRun } from ${JSON.stringify(mod('runs.ts'))};
       import { SampleWriter } from ${JSON.stringify(mod('sample-writer.ts'))};
       const db = openStore(${JSON.stringify(path)});
-      const run = createRun(db, { station: 'bench-a', fibre: { name: 'F' }, startedAtMs: Date.UTC(2026, 5, 1), source: 'device' });
+      const run = createRun(db, { station: 'bench-a', fibre: { name: 'F' }, startedAt_ms: Date.UTC(2026, 5, 1), source: 'device' });
       const w = new SampleWriter(db, run, { chunkSamples: 64 });
       let i = 0;
       const block = (k) => {

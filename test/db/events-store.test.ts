@@ -21,7 +21,7 @@ const T0 = Date.UTC(2026, 3, 1, 12);
 describe('events', () => {
   it('round-trips in the events --json shape, in time order, and counts gaps on the run', () => {
     const db = openStore(tmpFile());
-    const run = createRun(db, { station: 's', fibre: { name: 'f' }, startedAtMs: T0, source: 'device' });
+    const run = createRun(db, { station: 's', fibre: { name: 'f' }, startedAt_ms: T0, source: 'device' });
     insertEvents(db, run, [
       { t_s: 30, t_ms: T0 + 30_000, kind: 'gap', severity: 'warning', message: 'no samples for 4.0 s', data: { duration_s: 4 } },
       { t_s: 12.5, t_ms: T0 + 12_500, kind: 'equilibrium-drift', severity: 'alarm', message: 'equilibrium moving', value: 7.2e-6, threshold: 5e-6, state: 'raised' },
@@ -47,7 +47,7 @@ describe('events', () => {
 
   it('one bad row stores nothing (one transaction) and names the row', () => {
     const db = openStore(tmpFile());
-    const run = createRun(db, { station: 's', fibre: { name: 'f' }, startedAtMs: T0, source: 'device' });
+    const run = createRun(db, { station: 's', fibre: { name: 'f' }, startedAt_ms: T0, source: 'device' });
     expect(() => insertEvents(db, run, [
       { t_s: 1, t_ms: T0 + 1000, kind: 'gap', severity: 'info', message: 'a' },
       { t_s: Infinity, t_ms: T0, kind: 'gap', severity: 'info', message: 'b' },

@@ -36,10 +36,10 @@ function win(index: number, over: Partial<WindowResult>): WindowResult {
   };
 }
 
-function addRun(db: Database, fibre: string, startMs: number, windows: WindowResult[]): number {
-  const id = createRun(db, { station: 'bench-a', fibre: { name: fibre, material: 'tungsten', diameter_m: 2.5e-5, length_m: 0.8 }, startedAtMs: startMs, source: 'device' });
+function addRun(db: Database, fibre: string, start_ms: number, windows: WindowResult[]): number {
+  const id = createRun(db, { station: 'bench-a', fibre: { name: fibre, material: 'tungsten', diameter_m: 2.5e-5, length_m: 0.8 }, startedAt_ms: start_ms, source: 'device' });
   insertWindows(db, id, windows);
-  endRun(db, id, 'complete', startMs + 3_600_000);
+  endRun(db, id, 'complete', start_ms + 3_600_000);
   return id;
 }
 
@@ -48,7 +48,7 @@ describe('fibres', () => {
     const db = openStore(tmpFile());
     addRun(db, 'F1', D0 + 86_400_000, []);
     addRun(db, 'F1', D0, []);
-    createRun(db, { station: 'bench-b', fibre: { name: 'R1', width_m: 1e-3, thickness_m: 2e-5 }, startedAtMs: D0, source: 'file' });
+    createRun(db, { station: 'bench-b', fibre: { name: 'R1', width_m: 1e-3, thickness_m: 2e-5 }, startedAt_ms: D0, source: 'file' });
     db.prepare("INSERT INTO fibres (name) VALUES ('unused')").run();
     expect(listFibres(db)).toEqual([
       { name: 'F1', material: 'tungsten', diameter_m: 2.5e-5, length_m: 0.8, width_m: null, thickness_m: null, runs: 2,

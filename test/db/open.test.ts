@@ -39,7 +39,7 @@ describe('openStore', () => {
   it('read-only connections read while the writer writes; refuse writes', () => {
     const path = tmpFile();
     const db = openStore(path);
-    const run = createRun(db, { station: 's', fibre: { name: 'f' }, startedAtMs: 0, source: 'simulator' });
+    const run = createRun(db, { station: 's', fibre: { name: 'f' }, startedAt_ms: 0, source: 'simulator' });
     const ro = openStore(path, { readonly: true });
     expect(() => ro.prepare("INSERT INTO stations (name, updated_at) VALUES ('x', 0)").run()).toThrow(/readonly/);
     const w = new SampleWriter(db, run);
@@ -62,7 +62,7 @@ describe('openStore', () => {
   it('checkpoint(TRUNCATE) empties the WAL', () => {
     const path = tmpFile();
     const db = openStore(path);
-    const run = createRun(db, { station: 's', fibre: { name: 'f' }, startedAtMs: 0, source: 'simulator' });
+    const run = createRun(db, { station: 's', fibre: { name: 'f' }, startedAt_ms: 0, source: 'simulator' });
     const w = new SampleWriter(db, run);
     const n = 50_000;
     w.append(Float64Array.from({ length: n }, (_, i) => i * 0.05), { angle: Float64Array.from({ length: n }, (_, i) => Math.sin(i / 7)) });

@@ -24,7 +24,7 @@ const D0 = Date.UTC(2026, 2, 10); // 2026-03-10T00:00Z
 /** Four runs: A (bench-a/F1) day 10 00–06h, B (bench-b/F2) day 10 06–12h, C (bench-a/F1) day 11 00h still recording, D (bench-a/F2) day 9. */
 function fill(db: Database): { a: number; b: number; c: number; d: number } {
   const mk = (station: string, fibre: string, start: number, end: number | null) => {
-    const id = createRun(db, { station, fibre: { name: fibre, material: 'tungsten', diameter_m: 2.5e-5, length_m: 0.8 }, startedAtMs: start, source: 'device', clock: 'device' });
+    const id = createRun(db, { station, fibre: { name: fibre, material: 'tungsten', diameter_m: 2.5e-5, length_m: 0.8 }, startedAt_ms: start, source: 'device', clock: 'device' });
     if (end !== null) endRun(db, id, 'complete', end);
     return id;
   };
@@ -42,7 +42,7 @@ describe('runs', () => {
     const { a, b, c, d } = fill(db);
     expect(db.prepare('SELECT COUNT(*) AS n FROM stations').get()).toEqual({ n: 2 });
     expect(db.prepare('SELECT COUNT(*) AS n FROM fibres').get()).toEqual({ n: 2 });
-    const all = listRuns(db, { nowMs: D0 + 30 * H });
+    const all = listRuns(db, { now_ms: D0 + 30 * H });
     expect(all.map((r) => r.run)).toEqual([d, a, b, c]);
     expect(all[1]).toEqual({
       run: a, station: 'bench-a', fibre: 'F1', started_at: '2026-03-10T00:00:00.000Z', ended_at: '2026-03-10T06:00:00.000Z',
@@ -56,24 +56,24 @@ describe('runs', () => {
   it('filters by fibre, station and the overlap of [since, until)', () => {
     const db = openStore(tmpFile());
     const { a, b, c, d } = fill(db);
-    const ids = (f: Parameters<typeof listRuns>[1]) => listRuns(db, { nowMs: D0 + 30 * H, ...f }).map((r) => r.run);
+    const ids = (f: Parameters<typeof listRuns>[1]) => listRuns(db, { now_ms: D0 + 30 * H, ...f }).map((r) => r.run);
     expect(ids({ fibre: 'F1' })).toEqual([a, c]);
     expect(ids({ station: 'bench-a' })).toEqual([d, a, c]);
     expect(ids({ station: 'bench-a', fibre: 'F2' })).toEqual([d]);
     expect(ids({ fibre: 'nothing' })).toEqual([]);
     // the 10th: A and B lie inside; D ended the day before; C starts on the 11th
-    expect(ids({ sinceMs: D0, untilMs: D0 + 24 * H })).toEqual([a, b]);
+    expect(ids({ since_ms: D0, until_ms: D0 + 24 * H })).toEqual([a, b]);
     // until is exclusive: a run starting exactly at until is out
-    expect(ids({ sinceMs: D0 - 48 * H, untilMs: D0 + 6 * H })).toEqual([d, a]);
-    expect(ids({ sinceMs: D0 - 48 * H, untilMs: D0 + 6 * H + 1 })).toEqual([d, a, b]);
+    expect(ids({ since_ms: D0 - 48 * H, until_ms: D0 + 6 * H })).toEqual([d, a]);
+    expect(ids({ since_ms: D0 - 48 * H, until_ms: D0 + 6 * H + 1 })).toEqual([d, a, b]);
     // since is inclusive: a run that ends exactly at since still overlaps
-    expect(ids({ sinceMs: D0 + 12 * H, untilMs: D0 + 13 * H })).toEqual([b]);
-    expect(ids({ sinceMs: D0 + 12 * H + 1, untilMs: D0 + 13 * H })).toEqual([]);
+    expect(ids({ since_ms: D0 + 12 * H, until_ms: D0 + 13 * H })).toEqual([b]);
+    expect(ids({ since_ms: D0 + 12 * H + 1, until_ms: D0 + 13 * H })).toEqual([]);
     // a run still recording spans to now
-    expect(ids({ sinceMs: D0 + 29 * H })).toEqual([c]);
-    expect(listRuns(db, { sinceMs: D0 + 29 * H, nowMs: D0 + 28 * H }).map((r) => r.run)).toEqual([]);
+    expect(ids({ since_ms: D0 + 29 * H })).toEqual([c]);
+    expect(listRuns(db, { since_ms: D0 + 29 * H, now_ms: D0 + 28 * H }).map((r) => r.run)).toEqual([]);
     // a span that holds a run entirely, and one that lies inside a run
-    expect(ids({ sinceMs: D0 + 1 * H, untilMs: D0 + 2 * H })).toEqual([a]);
+    expect(ids({ since_ms: D0 + 1 * H, until_ms: D0 + 2 * H })).toEqual([a]);
     db.close();
   });
 
@@ -82,7 +82,7 @@ describe('runs', () => {
     const id = createRun(db, {
       station: 'bench-a', stationConfig: { station: 'bench-a', sensor: { kind: 'angle' } },
       fibre: { name: 'W25-03', material: 'tungsten', diameter_m: 2.5e-5, length_m: 0.8 },
-      startedAtMs: D0, source: 'file', sourcePath: '/data/rec.csv', clock: 'device', meta: { note: 'x' },
+      startedAt_ms: D0, source: 'file', sourcePath: '/data/rec.csv', clock: 'device', meta: { note: 'x' },
     });
     const r = getRun(db, id)!;
     expect(r).toMatchObject({
@@ -95,7 +95,7 @@ describe('runs', () => {
     expect(() => endRun(db, id + 1, 'complete', D0)).toThrow(/run \d+ does not exist/);
     expect(() => endRun(db, id, 'recording' as never, D0)).toThrow(/status/);
     // a later run with less fibre detail keeps what is known
-    createRun(db, { station: 'bench-a', fibre: { name: 'W25-03' }, startedAtMs: D0 + H, source: 'device' });
+    createRun(db, { station: 'bench-a', fibre: { name: 'W25-03' }, startedAt_ms: D0 + H, source: 'device' });
     expect(getRun(db, id)!.fibre_info.diameter_m).toBe(2.5e-5);
     db.close();
   });
@@ -103,8 +103,8 @@ describe('runs', () => {
   it('markInterrupted ends runs left recording at their last sample or event', () => {
     const db = openStore(tmpFile());
     const { a, c } = fill(db);
-    const e = createRun(db, { station: 'bench-b', fibre: { name: 'F2' }, startedAtMs: D0 + 40 * H, source: 'device' });
-    const f = createRun(db, { station: 'bench-b', fibre: { name: 'F2' }, startedAtMs: D0 + 50 * H, source: 'device' });
+    const e = createRun(db, { station: 'bench-b', fibre: { name: 'F2' }, startedAt_ms: D0 + 40 * H, source: 'device' });
+    const f = createRun(db, { station: 'bench-b', fibre: { name: 'F2' }, startedAt_ms: D0 + 50 * H, source: 'device' });
     const w = new SampleWriter(db, c);
     w.append(Float64Array.from({ length: 100 }, (_, i) => i * 0.5), { angle: new Float64Array(100) });
     w.flush(); // last sample at 49.5 s
@@ -122,7 +122,7 @@ describe('runs', () => {
 
   it('updateRunStartedAt moves the UTC stamps of the run and its events', () => {
     const db = openStore(tmpFile());
-    const id = createRun(db, { station: 's', fibre: { name: 'f' }, startedAtMs: D0, source: 'file' });
+    const id = createRun(db, { station: 's', fibre: { name: 'f' }, startedAt_ms: D0, source: 'file' });
     insertEvents(db, id, [{ t_s: 5, t_ms: D0 + 5000, kind: 'gap', severity: 'info', message: 'g' }]);
     endRun(db, id, 'complete', D0 + 60_000);
     updateRunStartedAt(db, id, D0 - H);

@@ -31,7 +31,7 @@ function rng(seed: number): () => number {
 }
 
 function newRun(db: Database): number {
-  return createRun(db, { station: 'bench-a', fibre: { name: 'W25-03' }, startedAtMs: Date.UTC(2026, 1, 1), source: 'simulator' });
+  return createRun(db, { station: 'bench-a', fibre: { name: 'W25-03' }, startedAt_ms: Date.UTC(2026, 1, 1), source: 'simulator' });
 }
 
 /** A recording: 20 Hz with jitter, a gap, an angle channel and integer encoder counts. */
@@ -131,12 +131,12 @@ describe('SampleWriter and readSamples', () => {
     db.close();
   });
 
-  it('commits at most maxLatencyMs late, and what is committed is visible to another connection', () => {
+  it('commits at most maxLatency_ms late, and what is committed is visible to another connection', () => {
     const path = tmpFile();
     const db = openStore(path);
     const reader = openStore(path, { readonly: true });
     const run = newRun(db);
-    const w = new SampleWriter(db, run, { maxLatencyMs: 1000 });
+    const w = new SampleWriter(db, run, { maxLatency_ms: 1000 });
     const stored = () => (reader.prepare('SELECT samples FROM runs WHERE id = ?').get(run) as { samples: number }).samples;
     const block = (k: number, t0: number) => Float64Array.from({ length: k }, (_, i) => t0 + i * 0.05);
     w.append(block(20, 0), { angle: block(20, 0) });

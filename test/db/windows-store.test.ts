@@ -31,7 +31,7 @@ function win(index: number, over: Partial<WindowResult> = {}): WindowResult {
 describe('windows', () => {
   it('round-trips every WindowResult field, rejected windows included', () => {
     const db = openStore(tmpFile());
-    const run = createRun(db, { station: 's', fibre: { name: 'f' }, startedAtMs: 0, source: 'simulator' });
+    const run = createRun(db, { station: 's', fibre: { name: 'f' }, startedAt_ms: 0, source: 'simulator' });
     const rows = [
       win(0),
       win(1, { status: 'too-few-samples', period_s: null, period_sigma_s: null, kappa_Nm_per_rad: null, temp_C: null }),
@@ -49,7 +49,7 @@ describe('windows', () => {
 
   it('stores non-finite numbers as null and refuses a bad index', () => {
     const db = openStore(tmpFile());
-    const run = createRun(db, { station: 's', fibre: { name: 'f' }, startedAtMs: 0, source: 'simulator' });
+    const run = createRun(db, { station: 's', fibre: { name: 'f' }, startedAt_ms: 0, source: 'simulator' });
     insertWindows(db, run, [win(0, { chi2_red: Infinity, q: NaN })]);
     expect(listWindows(db, run)[0]).toMatchObject({ chi2_red: null, q: null });
     expect(() => insertWindows(db, run, [win(-1)])).toThrow(/rows\[0\]\.index/);

@@ -23,9 +23,9 @@ function collect(rs: DecodeResult[]): Out {
   return o;
 }
 
-function run(d: FramesDecoder, chunks: Uint8Array[], hostMs = 0): Out {
-  const rs = chunks.map((c) => d.push(c, hostMs));
-  rs.push(d.flush(hostMs));
+function run(d: FramesDecoder, chunks: Uint8Array[], host_ms = 0): Out {
+  const rs = chunks.map((c) => d.push(c, host_ms));
+  rs.push(d.flush(host_ms));
   return collect(rs);
 }
 

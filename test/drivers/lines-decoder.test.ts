@@ -40,10 +40,10 @@ function collect(results: DecodeResult[]): Collected {
   return c;
 }
 
-/** Feed the chunks, then flush, all at host time hostMs. */
-function run(d: Decoder, chunks: Uint8Array[], hostMs = 0): Collected {
-  const rs = chunks.map((ch) => d.push(ch, hostMs));
-  rs.push(d.flush(hostMs));
+/** Feed the chunks, then flush, all at host time host_ms. */
+function run(d: Decoder, chunks: Uint8Array[], host_ms = 0): Collected {
+  const rs = chunks.map((ch) => d.push(ch, host_ms));
+  rs.push(d.flush(host_ms));
   return collect(rs);
 }
 
@@ -132,7 +132,7 @@ describe('LinesDecoder', () => {
     expect(c.t).toEqual([0.5, 1.5, 2.5]);
     expect(c.ch.angle_rad).toEqual([1e-3, -2.5e-4, 0.125]);
     expect(c.blocks[0].clock).toBe('device');
-    expect(c.blocks[0].hostMs).toBe(1234);
+    expect(c.blocks[0].host_ms).toBe(1234);
     expect(c.incidents).toEqual([]);
     expect(d.stats).toEqual({ samples: 3, badRecords: 0, gaps: 0, lostFrames: 0 });
   });
@@ -256,7 +256,7 @@ describe('LinesDecoder', () => {
     out.push(...d.flush(1700).incidents); // the end reports what is held
     expect(out.map((i) => i.data!.count)).toEqual([1, 2, 3]);
     expect(out.map((i) => i.data!.snippet)).toEqual(['x', 'y', 'w']);
-    expect(out.map((i) => i.hostMs)).toEqual([0, 1500, 1700]);
+    expect(out.map((i) => i.host_ms)).toEqual([0, 1500, 1700]);
     expect(out.every((i) => i.kind === 'bad-input' && i.severity === 'warning')).toBe(true);
     expect(d.stats.badRecords).toBe(6);
   });

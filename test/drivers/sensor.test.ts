@@ -8,7 +8,7 @@ function block(channels: Partial<Record<ValueRole, number[]>>): RawBlock {
   const n = Object.values(channels)[0]!.length;
   const ch: Partial<Record<ValueRole, Float64Array>> = {};
   for (const [k, v] of Object.entries(channels)) ch[k as ValueRole] = Float64Array.from(v!);
-  return { n, t: new Float64Array(n).map((_, i) => i * 0.1), clock: 'device', hostMs: 42, channels: ch };
+  return { n, t: new Float64Array(n).map((_, i) => i * 0.1), clock: 'device', host_ms: 42, channels: ch };
 }
 
 describe('makeConverter: angle', () => {
@@ -19,7 +19,7 @@ describe('makeConverter: angle', () => {
     expect(Array.from(a.angle)).toEqual([1e-3, NaN, -2e-3]);
     expect(Array.from(a.flags)).toEqual([0, FLAG_INVALID, 0]);
     expect(a.t).toBe(b.t);
-    expect(a.hostMs).toBe(42);
+    expect(a.host_ms).toBe(42);
     expect(a.angle).not.toBe(b.channels.angle_rad); // a copy: later stages may mask in place
   });
 

@@ -30,8 +30,8 @@ function record(sup: SerialSupervisor) {
     /** r.chunks.length at each down event */
     chunksAtDown: [] as number[],
     bytes: 0,
-    firstDataMs: [] as number[],
-    dataMs: [] as number[],
+    firstData_ms: [] as number[],
+    data_ms: [] as number[],
     downs: [] as DownInfo[],
     ups: [] as UpInfo[],
     incidents: [] as Incident[],
@@ -41,8 +41,8 @@ function record(sup: SerialSupervisor) {
   sup.on('data', (c, t) => {
     r.chunks.push(Buffer.from(c));
     r.bytes += c.length;
-    r.dataMs.push(t);
-    if (r.firstDataMs.length < r.ups.length) r.firstDataMs.push(t);
+    r.data_ms.push(t);
+    if (r.firstData_ms.length < r.ups.length) r.firstData_ms.push(t);
   });
   sup.on('down', (d) => {
     r.downs.push(d);
@@ -212,7 +212,7 @@ describe('SerialSupervisor on a socat pseudo-terminal', () => {
     // silent: the watchdog fires, reopens, fires again…
     await waitFor(() => r.downs.length >= 2, 'two watchdog cycles', 10_000);
     expect(r.downs[0].reason).toMatch(/no data for 0.8 s/);
-    expect(r.downs[0].atMs - (r.dataMs.at(-1) ?? 0)).toBeGreaterThanOrEqual(800);
+    expect(r.downs[0].at_ms - (r.data_ms.at(-1) ?? 0)).toBeGreaterThanOrEqual(800);
     // the instrument speaks again, continuously, right after a reopen
     const ups = r.ups.length;
     await waitFor(() => r.ups.length > ups, 'a reopen', 10_000);
@@ -221,12 +221,12 @@ describe('SerialSupervisor on a socat pseudo-terminal', () => {
     const gapAt = r.chunks.length;
     await waitFor(() => r.chunks.length > gapAt + 5, 'more data');
     // one outage however many reopen cycles: one device-lost, one reconnect, one gap
-    if (r.incidents.length !== 3) console.log(JSON.stringify({ downs: r.downs, ups: r.ups, inc: r.incidents.map((i) => [i.kind, i.hostMs, i.data]), dataT: r.dataMs.slice(-50) }));
+    if (r.incidents.length !== 3) console.log(JSON.stringify({ downs: r.downs, ups: r.ups, inc: r.incidents.map((i) => [i.kind, i.host_ms, i.data]), dataT: r.data_ms.slice(-50) }));
     expect(r.incidents.map((i) => i.kind)).toEqual(['device-lost', 'reconnect', 'gap']);
     const gap = r.incidents[2].data!;
     expect(gap.reopens as number).toBeGreaterThanOrEqual(2);
-    expect(gap.start_ms).toBe(r.dataMs[r.chunksAtDown[0] - 1]); // the gap runs from the last data before the loss
-    expect(gap.end_ms).toBe(r.dataMs[r.chunksAtDown[0]]); // … to the first data after it
+    expect(gap.start_ms).toBe(r.data_ms[r.chunksAtDown[0] - 1]); // the gap runs from the last data before the loss
+    expect(gap.end_ms).toBe(r.data_ms[r.chunksAtDown[0]]); // … to the first data after it
     await sup.stop();
     await w2.stop();
     const text = r.text();
@@ -310,7 +310,7 @@ describe('SerialSupervisor on a socat pseudo-terminal', () => {
     await waitFor(() => r.bytes >= lines(0, 100).length, 'data before the unplug');
     await p.stop();
     await waitFor(() => r.downs.length === 1, 'down');
-    const tDown = r.downs[0].atMs;
+    const tDown = r.downs[0].at_ms;
     await waitFor(() => r.giveups.length === 1, 'giveup', 10_000);
     const tGiveUp = clock();
     expect((tGiveUp - tDown) / 1000).toBeGreaterThan(0.95);

@@ -8,7 +8,7 @@ import { thermalAngleRms } from '../../src/physics/thermal.js';
 import { kappaFromPeriod } from '../../src/physics/torsion.js';
 
 const base = (extra: Record<string, unknown> = {}) => parseScenario({
-  name: 'test', duration_s: 600, sample_rate_hz: 10, inertia_kg_m2: 3.6e-5,
+  name: 'test', duration_s: 600, sample_rate_Hz: 10, inertia_kg_m2: 3.6e-5,
   kappa_Nm_per_rad: kappaFromPeriod(3.6e-5, 10), q: 50, thermal_noise: false,
   initial: { amplitude_rad: 0.01, phase_rad: 0.7, equilibrium_rad: 0.002 }, ...extra,
 });
@@ -88,7 +88,7 @@ describe('virtual balance', () => {
   it('thermal noise gives θ_rms → √(k_B T/κ)', () => {
     // equipartition, checked against src/physics/thermal.ts
     const I = 1e-4, T0 = 1;
-    const sc = base({ duration_s: 20000, sample_rate_hz: 20, inertia_kg_m2: I, kappa_Nm_per_rad: kappaFromPeriod(I, T0), q: 5, thermal_noise: true, temperature_K: 300, initial: {} });
+    const sc = base({ duration_s: 20000, sample_rate_Hz: 20, inertia_kg_m2: I, kappa_Nm_per_rad: kappaFromPeriod(I, T0), q: 5, thermal_noise: true, temperature_K: 300, initial: {} });
     const r = simulateToArrays(sc, 42);
     let s = 0, s2 = 0;
     for (let i = 0; i < r.theta.length; i++) { s += r.theta[i]; s2 += r.theta[i] ** 2; }

@@ -48,7 +48,7 @@ function decodeAll(station: unknown, bytes: Uint8Array, chunk = 997) {
 describe('simulator onto the wire', () => {
   it('lines output decodes back to the simulated samples, dropouts leave no samples', async () => {
     const sc = parseScenario({
-      name: 'lines-roundtrip', duration_s: 120, sample_rate_hz: 10, inertia_kg_m2: 1e-4, kappa_Nm_per_rad: 1e-4 * (2 * Math.PI / 10) ** 2,
+      name: 'lines-roundtrip', duration_s: 120, sample_rate_Hz: 10, inertia_kg_m2: 1e-4, kappa_Nm_per_rad: 1e-4 * (2 * Math.PI / 10) ** 2,
       q: 500, temperature_K: 295, initial: { amplitude_rad: 0.002 }, angle_noise_rad: 1e-7,
       dropouts: [{ t_s: 30, duration_s: 7.5 }, { t_s: 100, duration_s: 0.25 }], temperature_channel: { noise_K: 0.01 },
       output: { columns: ['t_s', 'angle_rad', 'temp_C'] },
@@ -146,7 +146,7 @@ describe('simulator onto the wire', () => {
   });
 
   it('paces in real time × speed and stops cleanly on abort', async () => {
-    const sc = parseScenario({ name: 'pace', duration_s: 3600, sample_rate_hz: 100, inertia_kg_m2: 1, kappa_Nm_per_rad: 1, q: 10 });
+    const sc = parseScenario({ name: 'pace', duration_s: 3600, sample_rate_Hz: 100, inertia_kg_m2: 1, kappa_Nm_per_rad: 1, q: 10 });
     let writes = 0;
     const counting = new Writable({ write(_c, _e, cb) { writes++; cb(); } });
     const ac = new AbortController();
@@ -162,7 +162,7 @@ describe('simulator onto the wire', () => {
   });
 
   it('honours backpressure: waits for drain on a slow sink and loses nothing', async () => {
-    const sc = parseScenario({ name: 'bp', duration_s: 50, sample_rate_hz: 200, inertia_kg_m2: 1, kappa_Nm_per_rad: 1, q: 10, initial: { amplitude_rad: 0.1 } });
+    const sc = parseScenario({ name: 'bp', duration_s: 50, sample_rate_Hz: 200, inertia_kg_m2: 1, kappa_Nm_per_rad: 1, q: 10, initial: { amplitude_rad: 0.1 } });
     const got: Buffer[] = [];
     let pending = 0;
     let maxPending = 0;
@@ -170,7 +170,7 @@ describe('simulator onto the wire', () => {
       highWaterMark: 1024,
       write(c, _e, cb) { pending++; maxPending = Math.max(maxPending, pending); got.push(c); setTimeout(() => { pending--; cb(); }, 2); },
     });
-    const r = await runSimulator({ scenario: sc, out: slow, speed: Infinity, block_samples: 256 });
+    const r = await runSimulator({ scenario: sc, out: slow, speed: Infinity, blockSamples: 256 });
     await new Promise((res) => slow.end(res));
     expect(r.samples).toBe(10000);
     const text = Buffer.concat(got).toString('utf8');
@@ -179,7 +179,7 @@ describe('simulator onto the wire', () => {
   });
 
   it('writes to a file path it opens itself and closes it', async () => {
-    const sc = parseScenario({ name: 'file', duration_s: 5, sample_rate_hz: 10, inertia_kg_m2: 1, kappa_Nm_per_rad: 1, q: 10 });
+    const sc = parseScenario({ name: 'file', duration_s: 5, sample_rate_Hz: 10, inertia_kg_m2: 1, kappa_Nm_per_rad: 1, q: 10 });
     const p = join(tmp, 'out.txt');
     const r = await runSimulator({ scenario: sc, out: p, speed: 0 });
     const text = readFileSync(p, 'utf8');
@@ -231,7 +231,7 @@ process.stderr.write(JSON.stringify(r));`;
     const code = `import { runSimulator } from './drivers/simulator/run-simulator.ts';
 import { parseScenario } from './drivers/simulator/scenario.ts';
 import { abortOnSignals } from './drivers/simulator/abort-on-signals.ts';
-const sc = parseScenario({ name: 'sig', duration_s: 3600, sample_rate_hz: 50, inertia_kg_m2: 1, kappa_Nm_per_rad: 1, q: 10, initial: { amplitude_rad: 0.1 } });
+const sc = parseScenario({ name: 'sig', duration_s: 3600, sample_rate_Hz: 50, inertia_kg_m2: 1, kappa_Nm_per_rad: 1, q: 10, initial: { amplitude_rad: 0.1 } });
 const { signal, dispose } = abortOnSignals();
 process.stderr.write('ready\\n');
 const r = await runSimulator({ scenario: sc, out: '-', speed: 1, signal });

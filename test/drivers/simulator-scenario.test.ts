@@ -4,7 +4,7 @@ import { loadScenario, parseScenario, ScenarioError } from '../../drivers/simula
 import { kappaRound, periodFromKappa } from '../../src/physics/torsion.js';
 
 const dir = new URL('../../drivers/simulator/scenarios/', import.meta.url);
-const min = { name: 'm', duration_s: 10, sample_rate_hz: 10, inertia_kg_m2: 1e-5, kappa_Nm_per_rad: 1e-8, q: 100 };
+const min = { name: 'm', duration_s: 10, sample_rate_Hz: 10, inertia_kg_m2: 1e-5, kappa_Nm_per_rad: 1e-8, q: 100 };
 
 const err = (v: unknown): string => {
   try {

@@ -6,7 +6,7 @@ import { encoderCount, sensorChannels, wrapSigned } from '../../drivers/simulato
 import { Unwrapper } from '../../drivers/unwrap.js';
 
 const sensorOf = (sensor: Record<string, unknown>, columns?: string[]) => parseScenario({
-  name: 's', duration_s: 1, sample_rate_hz: 1, inertia_kg_m2: 1, kappa_Nm_per_rad: 1, q: 10, sensor,
+  name: 's', duration_s: 1, sample_rate_Hz: 1, inertia_kg_m2: 1, kappa_Nm_per_rad: 1, q: 10, sensor,
   ...(columns ? { output: { columns } } : {}),
 }).sensor;
 

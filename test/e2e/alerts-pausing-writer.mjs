@@ -15,11 +15,11 @@ const fd = openSync(feed, constants.O_WRONLY | constants.O_NOCTTY);
 const t0 = Date.now();
 let i = 0;
 let paused = false;
-let lastWriteMs = 0;
+let lastWrite_ms = 0;
 let announceResume = false;
 createInterface({ input: process.stdin }).on('line', (l) => {
   const cmd = l.trim();
-  if (cmd === 'pause') { paused = true; process.stdout.write(`paused ${lastWriteMs}\n`); }
+  if (cmd === 'pause') { paused = true; process.stdout.write(`paused ${lastWrite_ms}\n`); }
   if (cmd === 'resume') { paused = false; announceResume = true; }
   if (cmd === 'stop') process.exit(0);
 });
@@ -35,8 +35,8 @@ function tick() {
         s += `${t.toFixed(3)},${(1e-3 * Math.cos((2 * Math.PI * t) / 20)).toPrecision(9)}\n`;
       }
       try { writeSync(fd, s); } catch { process.exit(3); }
-      lastWriteMs = Date.now();
-      if (announceResume) { announceResume = false; process.stdout.write(`resumed ${lastWriteMs}\n`); }
+      lastWrite_ms = Date.now();
+      if (announceResume) { announceResume = false; process.stdout.write(`resumed ${lastWrite_ms}\n`); }
     }
   }
   setTimeout(tick, 5);

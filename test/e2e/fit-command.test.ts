@@ -30,7 +30,7 @@ describe('fit on encoder data of 1, 3 and 10 full turns (isochronism)', () => {
     const files: string[] = [];
     for (const turns of [1, 3, 10]) {
       const sc = parseScenario({
-        name: `enc-${turns}`, duration_s: 40, sample_rate_hz: 200, inertia_kg_m2: I, kappa_Nm_per_rad: kappa, q,
+        name: `enc-${turns}`, duration_s: 40, sample_rate_Hz: 200, inertia_kg_m2: I, kappa_Nm_per_rad: kappa, q,
         thermal_noise: true, initial: { amplitude_rad: 2 * Math.PI * turns, phase_rad: 0.3, equilibrium_rad: 0 },
         sensor: { kind: 'encoder', counts_per_rev: 10000, counter_bits: 16 },
         output: { format: 'frames', channels: [{ role: 'counts', scale: 1 }] },
@@ -72,7 +72,7 @@ describe('fit warns when the swing nears the fibre\'s elastic twist limit', () =
     const out: Record<number, string> = {};
     for (const turns of [1, 10]) {
       const sc = parseScenario({
-        name: `mw-${turns}`, duration_s: 400, sample_rate_hz: 10, inertia_kg_m2: I, kappa_Nm_per_rad: kappa, q: 500,
+        name: `mw-${turns}`, duration_s: 400, sample_rate_Hz: 10, inertia_kg_m2: I, kappa_Nm_per_rad: kappa, q: 500,
         thermal_noise: false, initial: { amplitude_rad: 2 * Math.PI * turns, phase_rad: 0, equilibrium_rad: 0 },
         sensor: { kind: 'encoder', counts_per_rev: 4096 }, output: { format: 'lines', columns: ['t_s', 'counts'] },
       });
@@ -94,7 +94,7 @@ describe('fit on a split photodiode whose first swings saturate', () => {
   it('returns the right period and equilibrium from the unsaturated samples', async () => {
     const I = 2e-4, kappa = 8.773e-6, q = 300;
     const sc = parseScenario({
-      name: 'pd-sat', duration_s: 600, sample_rate_hz: 10, inertia_kg_m2: I, kappa_Nm_per_rad: kappa, q,
+      name: 'pd-sat', duration_s: 600, sample_rate_Hz: 10, inertia_kg_m2: I, kappa_Nm_per_rad: kappa, q,
       thermal_noise: true, initial: { amplitude_rad: 0.003, phase_rad: 0.5, equilibrium_rad: 0 },
       sensor: { kind: 'split-photodiode', lever_arm_m: 0.3, beam_radius_m: 5e-4, power: 1, noise: 1e-4, detector_half_size_m: 0.005 },
       output: { format: 'lines', columns: ['t_ms', 'a', 'b'] },

@@ -20,7 +20,7 @@ import { samplesIn } from '../helpers/store.js';
 const SCENARIO = {
   name: 'record-known',
   duration_s: 3 * 3600,
-  sample_rate_hz: 10,
+  sample_rate_Hz: 10,
   inertia_kg_m2: 4.5e-6,
   fibre: { name: 'W50-known', material: 'tungsten', diameter_m: 5e-5, length_m: 0.5 },
   q: 3000,
@@ -60,7 +60,7 @@ describe('record of the simulator through a pseudo-terminal', () => {
     await rec.waitForStderr('recording run');
     const sim = startCli(['simulate', '--scenario', scenarioPath, '--device', pty.feedPath, '--speed', String(SPEED), '--seed', '5']);
     expect((await sim.exited).code, sim.stderr()).toBe(0);
-    const N = sc.duration_s * sc.sample_rate_hz;
+    const N = sc.duration_s * sc.sample_rate_Hz;
     // the first line after the port opens is dropped as torn: the simulator's first line is a comment
     await waitFor(() => samplesIn(db) >= N, 'every simulated sample committed', 30_000, 100);
     rec.child.kill('SIGTERM');

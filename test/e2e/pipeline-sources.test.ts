@@ -26,7 +26,7 @@ import { samplesIn } from '../helpers/store.js';
 const SCENARIO = {
   name: 'sources-check',
   duration_s: 3000,
-  sample_rate_hz: 10,
+  sample_rate_Hz: 10,
   inertia_kg_m2: 4e-5,
   kappa_Nm_per_rad: 1e-6,
   q: 2000,
@@ -122,7 +122,7 @@ describe('one pipeline, three sources', () => {
     const dbPath = join(dir, 'inproc.db');
     const db = openStore(dbPath);
     const bytes = readFileSync(file);
-    const session = new RunSession(db, station, { source: 'simulator', startedAtMs: Date.parse('2026-03-01T00:00:00Z') });
+    const session = new RunSession(db, station, { source: 'simulator', startedAt_ms: Date.parse('2026-03-01T00:00:00Z') });
     const acq = new Acquisition(station, session, makeLiveSink(station, session, { live: false, log: () => {} }));
     const sizes = [1, 997, 13, 4093, 65_537, 7];
     let host = Date.parse('2026-03-01T00:00:00Z');

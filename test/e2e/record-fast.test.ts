@@ -15,13 +15,13 @@ import { startPtyPair, waitFor, type PtyPair } from '../../drivers/pty-pair.js';
 import { startCli } from '../helpers/cli.js';
 import { samplesIn } from '../helpers/store.js';
 
-const RATE_HZ = 8000;
+const RATE_Hz = 8000;
 const DURATION_S = 12;
 // invented fast balance: T ≈ 1 s, angle frames (1 nrad per count) at 8 kHz
 const SCENARIO = {
   name: 'fast-frames',
   duration_s: DURATION_S,
-  sample_rate_hz: RATE_HZ,
+  sample_rate_Hz: RATE_Hz,
   inertia_kg_m2: 1e-4,
   kappa_Nm_per_rad: 4e-3,
   q: 500,
@@ -75,7 +75,7 @@ describe('record under a fast producer', () => {
     const sim = startCli(['simulate', '--scenario', scenarioPath, '--device', pty.feedPath, '--speed', '1', '--seed', '3']);
     expect((await sim.exited).code, sim.stderr()).toBe(0);
     const written = Number(/wrote (\d+) samples/.exec(sim.stderr())?.[1]);
-    expect(written).toBe(RATE_HZ * DURATION_S);
+    expect(written).toBe(RATE_Hz * DURATION_S);
     await waitFor(() => samplesIn(db) >= written, 'every frame committed', 20_000, 100);
     clearInterval(sampler);
     rec.child.kill('SIGTERM');

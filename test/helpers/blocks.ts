@@ -13,7 +13,7 @@ export function rng(seed: number): () => number {
   };
 }
 
-/** Cut arrays into blocks of the given sizes (the last size repeats); hostMs = hostBase + first index. */
+/** Cut arrays into blocks of the given sizes (the last size repeats); host_ms = hostBase + first index. */
 export function blocks(t: Float64Array, y: Float64Array, flags: Uint8Array, sizes: number[], temp?: Float64Array, opts: { clock?: AngleBlock['clock']; hostBase?: number } = {}): AngleBlock[] {
   const out: AngleBlock[] = [];
   let i = 0;
@@ -22,7 +22,7 @@ export function blocks(t: Float64Array, y: Float64Array, flags: Uint8Array, size
     const n = Math.min(sizes[Math.min(k++, sizes.length - 1)], t.length - i);
     out.push({
       n, t: t.slice(i, i + n), angle: y.slice(i, i + n), flags: flags.slice(i, i + n),
-      channels: temp ? { temp_C: temp.slice(i, i + n) } : {}, clock: opts.clock ?? 'device', hostMs: (opts.hostBase ?? 0) + i,
+      channels: temp ? { temp_C: temp.slice(i, i + n) } : {}, clock: opts.clock ?? 'device', host_ms: (opts.hostBase ?? 0) + i,
     });
     i += n;
   }

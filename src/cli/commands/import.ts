@@ -11,10 +11,10 @@ import { renderSummary } from './show.js';
 
 export async function importCommand(file: string, opts: { station: string; startedAt?: string; db?: string; json?: boolean }): Promise<void> {
   const station = loadStation(opts.station);
-  let startedAtMs: number | undefined;
+  let startedAt_ms: number | undefined;
   if (opts.startedAt !== undefined) {
     try {
-      startedAtMs = parseDateArg(opts.startedAt);
+      startedAt_ms = parseDateArg(opts.startedAt);
     } catch {
       throw new UsageError(`--started-at: "${opts.startedAt}" is not an ISO 8601 time`);
     }
@@ -44,7 +44,7 @@ export async function importCommand(file: string, opts: { station: string; start
   bar?.start(size, 0, { rate: '0.0' });
   try {
     const res = await importFile(db, station, file, {
-      startedAtMs,
+      startedAt_ms,
       onProgress: (done) => bar?.update(done, { rate: (done / 1e6 / ((performance.now() - t0) / 1000 || 1)).toFixed(1) }),
       log,
     });

@@ -13,14 +13,14 @@ export async function runsCommand(opts: { fibre?: string; station?: string; sinc
       throw new UsageError(`${flag}: "${v}" is not YYYY-MM-DD or an ISO 8601 time`);
     }
   };
-  const sinceMs = date('--since', opts.since);
-  const untilMs = date('--until', opts.until);
-  if (sinceMs !== undefined && untilMs !== undefined && untilMs <= sinceMs) {
+  const since_ms = date('--since', opts.since);
+  const until_ms = date('--until', opts.until);
+  if (since_ms !== undefined && until_ms !== undefined && until_ms <= since_ms) {
     throw new UsageError(`--until: ${opts.until} is not after --since ${opts.since} (the span [since, until) would be empty)`);
   }
   const db = openForQuery(opts.db);
   try {
-    const rows = listRuns(db, { fibre: opts.fibre, station: opts.station, sinceMs, untilMs });
+    const rows = listRuns(db, { fibre: opts.fibre, station: opts.station, since_ms, until_ms });
     if (opts.json) {
       process.stdout.write(JSON.stringify(rows, null, 2) + '\n');
       return;

@@ -15,8 +15,8 @@ export const WINDOW_COLUMNS = [
 ];
 
 /** Window rows as CONTRACT.md lists them: the fit fields plus `t_mid` (ISO) and `status`. */
-export function windowRows(ws: WindowResult[], startedAtMs: number): Record<string, unknown>[] {
-  return ws.map((w) => ({ ...w, t_mid: new Date(startedAtMs + w.t_mid_s * 1000).toISOString() }));
+export function windowRows(ws: WindowResult[], startedAt_ms: number): Record<string, unknown>[] {
+  return ws.map((w) => ({ ...w, t_mid: new Date(startedAt_ms + w.t_mid_s * 1000).toISOString() }));
 }
 
 export async function windowsCommand(run: number, opts: { db?: string; json?: boolean; csv?: boolean }): Promise<void> {

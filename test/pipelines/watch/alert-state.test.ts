@@ -7,8 +7,8 @@ const ev = (t: number, stat: number, extra: Partial<AlertEvaluation> = {}): Aler
 });
 
 describe('createAlertState', () => {
-  it('raises once, updates at most every update_every_s with new numbers, clears with hysteresis', () => {
-    const a = createAlertState({ kind: 'period-drift', severity: 'warning', update_every_s: 600, clear_fraction: 0.7, clear_after: 3 });
+  it('raises once, updates at most every updateEvery_s with new numbers, clears with hysteresis', () => {
+    const a = createAlertState({ kind: 'period-drift', severity: 'warning', updateEvery_s: 600, clearFraction: 0.7, clearAfter: 3 });
     const out = [];
     const stats = [0.2, 0.5, 1.2, 1.5, 1.1, 0.9, 0.8, 0.69, 0.5, 0.75, 0.6, 0.5, 0.4, 0.3, 1.0];
     for (let i = 0; i < stats.length; i++) {
@@ -24,8 +24,8 @@ describe('createAlertState', () => {
     expect(a.active).toBe(true);
   });
 
-  it('sends updated while the condition persists, spaced by update_every_s', () => {
-    const a = createAlertState({ kind: 'no-data', severity: 'alarm', update_every_s: 300 });
+  it('sends updated while the condition persists, spaced by updateEvery_s', () => {
+    const a = createAlertState({ kind: 'no-data', severity: 'alarm', updateEvery_s: 300 });
     const states: string[] = [];
     for (let t = 0; t <= 1000; t += 60) {
       const inc = a.step(ev(t, 2));
@@ -34,8 +34,8 @@ describe('createAlertState', () => {
     expect(states).toEqual(['0:raised', '300:updated', '600:updated', '900:updated']);
   });
 
-  it('a non-significant excess does not raise; raise_after needs consecutive evaluations', () => {
-    const a = createAlertState({ kind: 'equilibrium-drift', severity: 'warning', raise_after: 2 });
+  it('a non-significant excess does not raise; raiseAfter needs consecutive evaluations', () => {
+    const a = createAlertState({ kind: 'equilibrium-drift', severity: 'warning', raiseAfter: 2 });
     expect(a.step(ev(0, 3, { significant: false }))).toBeNull();
     expect(a.step(ev(60, 3))).toBeNull();
     expect(a.step(ev(120, 0.5))).toBeNull();
@@ -45,14 +45,14 @@ describe('createAlertState', () => {
   });
 
   it('does not flap on a statistic hovering around the threshold', () => {
-    const a = createAlertState({ kind: 'saturation', severity: 'warning', update_every_s: 1e9 });
+    const a = createAlertState({ kind: 'saturation', severity: 'warning', updateEvery_s: 1e9 });
     let n = 0;
     for (let i = 0; i < 200; i++) if (a.step(ev(i, i % 2 ? 1.05 : 0.95))) n++;
     expect(n).toBe(1);
   });
 
   it('rejects bad options', () => {
-    expect(() => createAlertState({ kind: 'gap', severity: 'info', clear_fraction: 1.5 })).toThrow(/clear_fraction must be in \(0, 1\]/);
-    expect(() => createAlertState({ kind: 'gap', severity: 'info', clear_after: 0 })).toThrow(/clear_after/);
+    expect(() => createAlertState({ kind: 'gap', severity: 'info', clearFraction: 1.5 })).toThrow(/clearFraction must be in \(0, 1\]/);
+    expect(() => createAlertState({ kind: 'gap', severity: 'info', clearAfter: 0 })).toThrow(/clearAfter/);
   });
 });

@@ -40,7 +40,7 @@ describe('watchEquilibrium', () => {
     expect((last.data as { creep: { forecast_reliable: boolean } }).creep.forecast_reliable).toBe(true);
   });
 
-  it('a long period (429 s: 8 windows an hour) still gets judged: the horizon reaches back to min_points windows', async () => {
+  it('a long period (429 s: 8 windows an hour) still gets judged: the horizon reaches back to minPoints windows', async () => {
     const onset = 8 * 3600 + 321;
     const tc = 12 * 3600;
     const creep = { t0_s: onset, a_rad: 2 * THR * tc, t_c_s: tc };

@@ -7,7 +7,7 @@ import type { Incident } from '../../../src/domain/events.js';
 
 const block = (t0: number, n = 10): AngleBlock => {
   const t = Float64Array.from({ length: n }, (_, i) => t0 + i * 0.01);
-  return { n, t, clock: 'device', hostMs: 0, channels: {}, angle: new Float64Array(n), flags: new Uint8Array(n) };
+  return { n, t, clock: 'device', host_ms: 0, channels: {}, angle: new Float64Array(n), flags: new Uint8Array(n) };
 };
 
 describe('watchNoData', () => {
@@ -17,12 +17,12 @@ describe('watchNoData', () => {
     ts.run(({ cold, flush }) => {
       // blocks at 0, 1 s, 2 s; silence; blocks at 20 s, 21 s; then 4 s more and complete
       const src = cold('a 999ms b 999ms c 17999ms d 999ms e 3999ms |', { a: block(0), b: block(1), c: block(2), d: block(20), e: block(21) }) as Observable<AngleBlock>;
-      src.pipe(watchNoData({ no_data_s: 5, scheduler: ts, update_every_s: 6, wallMs: () => 1.7e12 }), tap((inc) => got.push({ at: ts.now(), inc }))).subscribe();
+      src.pipe(watchNoData({ noData_s: 5, scheduler: ts, updateEvery_s: 6, wall_ms: () => 1.7e12 }), tap((inc) => got.push({ at: ts.now(), inc }))).subscribe();
       flush();
     });
     expect(got.map((g) => [g.at, g.inc.state])).toEqual([[7000, 'raised'], [13000, 'updated'], [19000, 'updated'], [20000, 'cleared']]);
     const [raised, , , cleared] = got.map((g) => g.inc);
-    expect(raised).toMatchObject({ kind: 'no-data', severity: 'alarm', value: 5, threshold: 5, hostMs: 1.7e12, message: 'no data for 5.0 s (limit 5 s)' });
+    expect(raised).toMatchObject({ kind: 'no-data', severity: 'alarm', value: 5, threshold: 5, host_ms: 1.7e12, message: 'no data for 5.0 s (limit 5 s)' });
     expect(raised.t).toBeUndefined();
     expect(raised.data).toMatchObject({ last_sample_t: 2.09 });
     expect(cleared.message).toBe('data back after 18.0 s without a block');
@@ -33,12 +33,12 @@ describe('watchNoData', () => {
     const ts = new TestScheduler((a, b) => expect(a).toEqual(b));
     ts.run(({ cold, expectObservable }) => {
       const steady = cold('a 1999ms a 1999ms a 1999ms a 1999ms |', { a: block(0) }) as Observable<AngleBlock>;
-      expectObservable(steady.pipe(watchNoData({ no_data_s: 3, scheduler: ts }))).toBe('8000ms |');
+      expectObservable(steady.pipe(watchNoData({ noData_s: 3, scheduler: ts }))).toBe('8000ms |');
     });
     const got: number[] = [];
     const ts2 = new TestScheduler((a, b) => expect(a).toEqual(b));
     ts2.run(({ cold, flush }) => {
-      (cold('10s |') as Observable<AngleBlock>).pipe(watchNoData({ no_data_s: 3, scheduler: ts2, check_s: 0.5 }), tap(() => got.push(ts2.now()))).subscribe();
+      (cold('10s |') as Observable<AngleBlock>).pipe(watchNoData({ noData_s: 3, scheduler: ts2, check_s: 0.5 }), tap(() => got.push(ts2.now()))).subscribe();
       flush();
     });
     expect(got).toEqual([3000]);
@@ -51,9 +51,9 @@ describe('watchNoData', () => {
       // a leaked timer would keep checking (and, the flush never ending, hang the test)
       const silent = cold('a 30s |', { a: block(0) }) as Observable<AngleBlock>;
       const now = () => { lastCheck = Math.max(lastCheck, ts.now()); return ts.now(); };
-      expectObservable(silent.pipe(watchNoData({ no_data_s: 5, scheduler: ts, now, wallMs: () => 0 })), '^ 2999ms !').toBe('');
+      expectObservable(silent.pipe(watchNoData({ noData_s: 5, scheduler: ts, now, wall_ms: () => 0 })), '^ 2999ms !').toBe('');
       const failing = cold('a 999ms #', { a: block(0) }, new Error('port gone')) as Observable<AngleBlock>;
-      expectObservable(failing.pipe(watchNoData({ no_data_s: 5, scheduler: ts }))).toBe('1000ms #', undefined, new Error('port gone'));
+      expectObservable(failing.pipe(watchNoData({ noData_s: 5, scheduler: ts }))).toBe('1000ms #', undefined, new Error('port gone'));
     });
     expect(lastCheck).toBeLessThanOrEqual(3000);
   });
@@ -62,7 +62,7 @@ describe('watchNoData', () => {
     const src = new Subject<AngleBlock>();
     const got: { at: number; inc: Incident }[] = [];
     const start = Date.now();
-    const sub = src.pipe(watchNoData({ no_data_s: 0.4 })).subscribe((inc) => got.push({ at: Date.now() - start, inc }));
+    const sub = src.pipe(watchNoData({ noData_s: 0.4 })).subscribe((inc) => got.push({ at: Date.now() - start, inc }));
     src.next(block(0));
     await new Promise((r) => setTimeout(r, 250));
     expect(got).toEqual([]);
@@ -75,6 +75,6 @@ describe('watchNoData', () => {
     src.next(block(1.4));
     expect(got.map((g) => g.inc.state)).toEqual(['raised', 'cleared']);
     sub.unsubscribe();
-    expect(() => watchNoData({ no_data_s: 0 })).toThrow(/no_data_s must be > 0/);
+    expect(() => watchNoData({ noData_s: 0 })).toThrow(/noData_s must be > 0/);
   });
 });

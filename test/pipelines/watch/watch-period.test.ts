@@ -4,7 +4,7 @@ import { watchPeriod } from '../../../pipelines/watch/watch-period.js';
 import { simulateWindowSeries } from '../../../bench/watch.js';
 import type { WindowResult } from '../../../src/domain/window-result.js';
 
-const run = (ws: WindowResult[], o = {}) => lastValueFrom(from(ws).pipe(watchPeriod({ period_change_ppm: 300, ...o }), toArray()));
+const run = (ws: WindowResult[], o = {}) => lastValueFrom(from(ws).pipe(watchPeriod({ periodChange_ppm: 300, ...o }), toArray()));
 
 describe('watchPeriod', () => {
   it('quiet 2-day series with a daily temperature swing moving the period by ~100 ppm raises nothing', async () => {
@@ -43,7 +43,7 @@ describe('watchPeriod', () => {
 
   it('a 400 ppm daily swing cries wolf when the temperature is not removed, and not when it is', async () => {
     const ws = simulateWindowSeries({ seed: 16, hours: 30, temp_swing_K: 4, temp_coef_ppm_per_K: 100 });
-    const off = await run(ws, { correct_temperature: false });
+    const off = await run(ws, { correctTemperature: false });
     expect(off.some((i) => i.state === 'raised')).toBe(true);
     const on = await run(ws);
     expect(on).toEqual([]);
@@ -58,7 +58,7 @@ describe('watchPeriod', () => {
       expect((Math.max(...ps) - Math.min(...ps)) / 429).toBeGreaterThan(190e-6);
       expect(await run(ws)).toEqual([]);
       // the CUSUM alone (no magnitude gate) would have raised on it
-      expect((await run(ws, { raise_fraction: 0 })).some((i) => i.state === 'raised')).toBe(true);
+      expect((await run(ws, { raiseFraction: 0 })).some((i) => i.state === 'raised')).toBe(true);
     }
   });
 
@@ -67,6 +67,6 @@ describe('watchPeriod', () => {
     expect(await run(ws.slice(0, 30))).toEqual([]);
     const bad = simulateWindowSeries({ seed: 18, hours: 3, period_step: { t_s: 5400, ppm: 1000 } }).map((w) => (w.t_end_s > 5400 ? { ...w, status: 'too-few-samples', period_s: null } : w));
     expect(await run(bad)).toEqual([]);
-    expect(() => watchPeriod({ period_change_ppm: -1 })).toThrow(/period_change_ppm must be > 0/);
+    expect(() => watchPeriod({ periodChange_ppm: -1 })).toThrow(/periodChange_ppm must be > 0/);
   });
 });
