@@ -5,14 +5,14 @@
  * Cramér–Rao bound, reported over empirical σ). `npx tsx bench/fit.ts`.
  */
 import { pathToFileURL } from 'node:url';
-import { fisherBound } from '../src/analysis/crlb.js';
+import { fisherBound } from '../test/helpers/crlb.js';
 import { fitDampedSine } from '../src/analysis/damped-sine.js';
-import { gaussianRng } from '../src/analysis/gaussian-rng.js';
+import { Rng } from '../src/analysis/rng.js';
 import { fitLM } from '../src/analysis/lm.js';
 import { periodSeed } from '../src/analysis/period-seed.js';
 
 function window(n: number, periods: number, T: number, A: number, sigma: number, Q: number, seed: number) {
-  const rng = gaussianRng(seed);
+  const rng = new Rng(seed);
   const dt = (T * periods) / n, tau = (Q * T) / Math.PI;
   const t = new Float64Array(n), y = new Float64Array(n);
   const tMid = 0.5 * (n - 1) * dt;
@@ -74,7 +74,7 @@ export async function benchFit(): Promise<Record<string, number>> {
   const mc = window(n, 4, 60, 1e-3, 0, 1000, 0);
   const clean = mc.y;
   const bound = fisherBound(mc.t, { equilibrium_rad: 0.01, drift_rad_per_s: 0, amplitude_rad: 1e-3, phase_rad: 0.7, period_s: 60, decay_time_s: mc.tau }, sigma, mc.tMid);
-  const rng = gaussianRng(7);
+  const rng = new Rng(7);
   const y = new Float64Array(n);
   const P: number[] = [], E: number[] = [], sP: number[] = [], sE: number[] = [], S: number[] = [];
   const t0 = performance.now();

@@ -13,7 +13,7 @@ import { fileURLToPath } from 'node:url';
 import Database from 'better-sqlite3';
 import { startPtyPair, waitFor } from '../drivers/pty-pair.js';
 import { encodeLines } from '../drivers/wire-encode.js';
-import { Rng } from '../drivers/simulator/rng.js';
+import { Rng } from '../src/analysis/rng.js';
 
 const BIN = fileURLToPath(new URL('../bin/fibrewatch.js', import.meta.url));
 

@@ -6,7 +6,7 @@
 import { createWriteStream } from 'node:fs';
 import { once } from 'node:events';
 import { encodeLines } from '../drivers/wire-encode.js';
-import { Rng } from '../drivers/simulator/rng.js';
+import { Rng } from '../src/analysis/rng.js';
 
 /** Options of writeRecording (SI units). */
 export interface RecordingSpec {

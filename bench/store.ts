@@ -17,18 +17,8 @@ import { pathToFileURL } from 'node:url';
 import { checkpoint, openStore } from '../db/open.js';
 import { createRun } from '../db/runs.js';
 import { SampleWriter } from '../db/sample-writer.js';
+import { rng } from '../test/helpers/blocks.js';
 
-/** Seeded uniform [0, 1) generator (mulberry32), so every run writes the same data. */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 export interface BenchStoreOptions {
   /** samples to write; default 10 000 000 */
@@ -49,7 +39,7 @@ export async function benchStore(opts: BenchStoreOptions = {}): Promise<Record<s
     const db = openStore(path);
     const run = createRun(db, { station: 'bench', fibre: { name: 'bench-fibre' }, startedAt_ms: Date.UTC(2026, 0, 1), source: 'simulator', clock: 'device' });
     const w = new SampleWriter(db, run, { deflateFloats: opts.deflateFloats ?? false });
-    const rnd = mulberry32(42);
+    const rnd = rng(42);
     const t = new Float64Array(B);
     const angle = new Float64Array(B);
     const fs = 20; // Hz

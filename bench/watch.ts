@@ -24,6 +24,7 @@ import type { Incident } from '../src/domain/events.js';
 import type { WindowResult } from '../src/domain/window-result.js';
 import { watchEquilibrium } from '../pipelines/watch/watch-equilibrium.js';
 import { watchPeriod } from '../pipelines/watch/watch-period.js';
+import { Rng } from '../src/analysis/rng.js';
 
 /** Scenario of a simulated run at the window level. */
 export interface WindowSeriesOptions {
@@ -54,17 +55,10 @@ export interface WindowSeriesOptions {
   outlier_fraction?: number;
 }
 
-/** Seeded uniform and normal deviates (mulberry32 + Box–Muller). */
+/** Seeded uniform (u) and standard normal (n) deviates from the project's generator. */
 export function makeRng(seed: number): { u: () => number; n: () => number } {
-  let a = seed >>> 0;
-  const u = () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-  return { u, n: () => Math.sqrt(-2 * Math.log(u() || 1e-300)) * Math.cos(2 * Math.PI * u()) };
+  const r = new Rng(seed);
+  return { u: () => r.uniform(), n: () => r.normal() };
 }
 
 /**

@@ -2,6 +2,7 @@
  * Events (alerts and incidents) of a run.
  */
 import type { Database } from 'better-sqlite3';
+import { prepared } from './statements.js';
 
 /** An event to store; t_s is seconds since the run's start, t_ms the same instant in UTC ms. */
 export interface EventRow {
@@ -31,6 +32,14 @@ export interface EventListing {
 
 const nullableNumber = (x: number | null | undefined): number | null => (x === undefined || x === null || !Number.isFinite(x) ? null : x);
 
+const statements = (db: Database) => ({
+  insert: db.prepare(`INSERT INTO events (run_id, t_s, t_ms, kind, severity, message, value, threshold, state, data_json)
+                      VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`),
+  addGaps: db.prepare('UPDATE runs SET gaps = gaps + ? WHERE id = ?'),
+  countAll: db.prepare('SELECT COUNT(*) AS n FROM events WHERE run_id = ?'),
+  countKind: db.prepare('SELECT COUNT(*) AS n FROM events WHERE run_id = ? AND kind = ?'),
+});
+
 /**
  * Store events in one transaction. Each 'gap' event also counts in runs.gaps,
  * so run listings show gaps without scanning events.
@@ -42,9 +51,7 @@ export function insertEvents(db: Database, runId: number, rows: readonly EventRo
     if (!Number.isFinite(r.t_ms)) throw new RangeError(`insertEvents: rows[${i}].t_ms: must be finite, got ${r.t_ms}`);
     if (!r.kind) throw new Error(`insertEvents: rows[${i}].kind: must not be empty`);
   });
-  const ins = db.prepare(`INSERT INTO events (run_id, t_s, t_ms, kind, severity, message, value, threshold, state, data_json)
-                          VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`);
-  const gaps = db.prepare('UPDATE runs SET gaps = gaps + ? WHERE id = ?');
+  const { insert: ins, addGaps: gaps } = prepared(db, statements);
   db.transaction(() => {
     let nGaps = 0;
     for (const r of rows) {
@@ -87,8 +94,7 @@ export function listEvents(db: Database, runId: number, opts: ListEventsOptions 
 
 /** Number of a run's events, of one kind or all. */
 export function countEvents(db: Database, runId: number, kind?: string): number {
-  const r = (kind === undefined
-    ? db.prepare('SELECT COUNT(*) AS n FROM events WHERE run_id = ?').get(runId)
-    : db.prepare('SELECT COUNT(*) AS n FROM events WHERE run_id = ? AND kind = ?').get(runId, kind)) as { n: number };
+  const st = prepared(db, statements);
+  const r = (kind === undefined ? st.countAll.get(runId) : st.countKind.get(runId, kind)) as { n: number };
   return r.n;
 }

@@ -6,7 +6,7 @@
 import { TIME_ROLES, VALUE_ROLES, type ColumnRole, type RawBlock, type ValueRole } from '../src/domain/block.js';
 import { BadInputLimiter } from './bad-input-limiter.js';
 import type { DecodeResult, Decoder, DecoderStats } from './decoder.js';
-import { parseNumber, scaleDecimal } from './parse-number.js';
+import { parseNumber, scanNumber, scanned } from './parse-number.js';
 import { Unwrapper } from './unwrap.js';
 
 /** Options of LinesDecoder. */
@@ -37,8 +37,6 @@ const latin1 = new TextDecoder('latin1');
 const EMPTY = new Uint8Array(0);
 const INCOMPLETE = -2;
 const OTHER = -1;
-const POW10 = new Float64Array(23);
-for (let i = 0, p = 1; i < 23; i++, p *= 10) POW10[i] = p; // exact doubles (see parse-number.ts)
 
 /** Index of the next LF in buf[s, e), or −1. A plain loop: Uint8Array#indexOf costs more per call than a short line. */
 function findLf(buf: Uint8Array, s: number, e: number): number {
@@ -191,70 +189,13 @@ export class LinesDecoder implements Decoder {
     let tv = 0;
     let i = s;
     for (let col = 0; col < ncol; col++) {
-      // one number: [+-] digits [. digits] [e [+-] digits]
+      i = scanNumber(buf, i, len);
+      // a number may go on in the next chunk; a line always ends in LF
       if (i >= len) return INCOMPLETE;
-      let ch = buf[i];
-      let neg = false;
-      if (ch === 45 || ch === 43) {
-        neg = ch === 45;
-        if (++i >= len) return INCOMPLETE;
-        ch = buf[i];
-      }
-      // significand = m·10^loDigits + lo, as in parseNumber
-      let m = 0;
-      let lo = 0;
-      let loDigits = 0;
-      let digits = 0;
-      let frac = 0;
-      while (ch >= 48 && ch <= 57) {
-        if (m < 9e14) m = m * 10 + (ch - 48);
-        else (lo = lo * 10 + (ch - 48)), loDigits++;
-        digits++;
-        if (++i >= len) return INCOMPLETE;
-        ch = buf[i];
-      }
-      if (ch === 46) {
-        if (++i >= len) return INCOMPLETE;
-        ch = buf[i];
-        while (ch >= 48 && ch <= 57) {
-          if (m < 9e14) m = m * 10 + (ch - 48);
-          else (lo = lo * 10 + (ch - 48)), loDigits++;
-          digits++;
-          frac++;
-          if (++i >= len) return INCOMPLETE;
-          ch = buf[i];
-        }
-      }
-      if (digits === 0) return OTHER;
-      let p = -frac;
-      if (ch === 101 || ch === 69) {
-        if (++i >= len) return INCOMPLETE;
-        ch = buf[i];
-        let eneg = false;
-        if (ch === 45 || ch === 43) {
-          eneg = ch === 45;
-          if (++i >= len) return INCOMPLETE;
-          ch = buf[i];
-        }
-        let ex = 0;
-        let ed = 0;
-        while (ch >= 48 && ch <= 57) {
-          ex = ex * 10 + (ch - 48);
-          ed++;
-          if (++i >= len) return INCOMPLETE;
-          ch = buf[i];
-        }
-        if (ed === 0 || ed > 4) return OTHER;
-        p += eneg ? -ex : ex;
-      }
-      if (p < -22 || p > 22 || loDigits > 4) return OTHER;
-      let v: number;
-      if (loDigits === 0) v = p >= 0 ? m * POW10[p] : m / POW10[-p];
-      else {
-        v = scaleDecimal(m, lo, loDigits, p);
-        if (v !== v) return OTHER;
-      }
-      if (neg) v = -v;
+      const v = scanned.value;
+      // not a number, or one the fast paths cannot decide: the general path takes the line
+      if (v !== v) return OTHER;
+      const ch = buf[i];
       // what follows: the separator, or the line end after the last field
       if (col < ncol - 1) {
         if (ch !== sep) return OTHER;
@@ -414,43 +355,27 @@ export class LinesDecoder implements Decoder {
     const sep = this.sep;
     let tv = NaN;
     let p = s;
-    if (sep < 0) {
-      // runs of blanks separate fields; leading and trailing blanks are ignored
-      for (let c = 0; c < ncol; c++) {
-        while (p < e && (buf[p] === 32 || buf[p] === 9)) p++;
-        if (p >= e) return this.bad(buf, s, e, `expected ${ncol} fields, got ${c}`);
-        let q = p;
-        while (q < e && buf[q] !== 32 && buf[q] !== 9) q++;
-        const k = kind[c];
-        if (k !== KIND_SKIP) {
-          const v = parseNumber(buf, p, q);
-          if (v !== v) return this.bad(buf, s, e, `field ${c + 1} (${L.columns[c]}) is not a number`);
-          if (k === KIND_TIME) tv = v;
-          else chans[k][n] = v;
-        }
-        p = q;
+    // sep < 0: runs of blanks separate fields, and leading and trailing blanks are ignored
+    const blanks = sep < 0;
+    const isBlank = (c: number) => c === 32 || c === 9;
+    for (let c = 0; c < ncol; c++) {
+      if (blanks) while (p < e && isBlank(buf[p])) p++;
+      if (p >= e && (blanks || c > 0)) return this.bad(buf, s, e, `expected ${ncol} fields, got ${c}`);
+      if (!blanks && c > 0) p++; // the separator
+      let q = p;
+      if (blanks) while (q < e && !isBlank(buf[q])) q++;
+      else while (q < e && buf[q] !== sep) q++;
+      const k = kind[c];
+      if (k !== KIND_SKIP) {
+        const v = parseNumber(buf, p, q);
+        if (v !== v) return this.bad(buf, s, e, `field ${c + 1} (${L.columns[c]}) is not a number`);
+        if (k === KIND_TIME) tv = v;
+        else chans[k][n] = v;
       }
-      while (p < e && (buf[p] === 32 || buf[p] === 9)) p++;
-      if (p < e) return this.bad(buf, s, e, `expected ${ncol} fields, got more`);
-    } else {
-      for (let c = 0; c < ncol; c++) {
-        if (c > 0) {
-          if (p >= e) return this.bad(buf, s, e, `expected ${ncol} fields, got ${c}`);
-          p++; // the separator
-        }
-        let q = p;
-        while (q < e && buf[q] !== sep) q++;
-        const k = kind[c];
-        if (k !== KIND_SKIP) {
-          const v = parseNumber(buf, p, q);
-          if (v !== v) return this.bad(buf, s, e, `field ${c + 1} (${L.columns[c]}) is not a number`);
-          if (k === KIND_TIME) tv = v;
-          else chans[k][n] = v;
-        }
-        p = q;
-      }
-      if (p < e) return this.bad(buf, s, e, `expected ${ncol} fields, got more`);
+      p = q;
     }
+    if (blanks) while (p < e && isBlank(buf[p])) p++;
+    if (p < e) return this.bad(buf, s, e, `expected ${ncol} fields, got more`);
     this.commit(L, n, tv, lineInPush);
   }
 

@@ -30,20 +30,28 @@ const HI = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1 ? 1 : 0; // inde
 const SPLIT = 134217729;
 
 /**
+ * The rounding error of a·b: a·b − fl(a·b) exactly (Dekker's two-product by
+ * splitting each factor into 26-bit halves; no fused multiply-add needed).
+ */
+function productError(a: number, b: number, ab: number): number {
+  let c = SPLIT * a;
+  const ah = c - (c - a);
+  const al = a - ah;
+  c = SPLIT * b;
+  const bh = c - (c - b);
+  const bl = b - bh;
+  return ah * bh - ab + ah * bl + al * bh + al * bl;
+}
+
+/**
  * (hi·10^loDigits + lo)·10^p correctly rounded, for hi < 2^53, lo < 10^loDigits,
  * loDigits ≤ 4 and |p| ≤ 22; NaN when it cannot decide the rounding (ask parseFloat).
  */
 export function scaleDecimal(hi: number, lo: number, loDigits: number, p: number): number {
   // m = hi·P + lo exactly as sh + sl
   const P = POW10[loDigits];
-  let ph = hi * P;
-  let c = SPLIT * hi;
-  let ah = c - (c - hi);
-  let al = hi - ah;
-  c = SPLIT * P;
-  let bh = c - (c - P);
-  let bl = P - bh;
-  const pl = ah * bh - ph + ah * bl + al * bh + al * bl;
+  const ph = hi * P;
+  const pl = productError(hi, P, ph);
   const sh = ph + lo;
   const bv = sh - ph;
   const e1 = ph - (sh - bv) + (lo - bv); // two-sum error
@@ -53,26 +61,13 @@ export function scaleDecimal(hi: number, lo: number, loDigits: number, p: number
   if (p >= 0) {
     const Q = POW10[p];
     h = sh * Q;
-    c = SPLIT * sh;
-    ah = c - (c - sh);
-    al = sh - ah;
-    c = SPLIT * Q;
-    bh = c - (c - Q);
-    bl = Q - bh;
-    l = ah * bh - h + ah * bl + al * bh + al * bl + sl * Q;
+    l = productError(sh, Q, h) + sl * Q;
   } else {
     const Q = POW10[-p];
     h = sh / Q;
     // remainder sh − h·Q exactly, then the low part of the quotient
-    ph = h * Q;
-    c = SPLIT * h;
-    ah = c - (c - h);
-    al = h - ah;
-    c = SPLIT * Q;
-    bh = c - (c - Q);
-    bl = Q - bh;
-    const pe = ah * bh - ph + ah * bl + al * bh + al * bl;
-    l = (sh - ph - pe + sl) / Q;
+    const hq = h * Q;
+    l = (sh - hq - productError(h, Q, hq) + sl) / Q;
   }
   const v = h + l;
   const e = h - v + l; // what the rounding dropped
@@ -92,11 +87,79 @@ function isBlank(c: number): boolean {
   return c === 32 || c === 9 || c === 13;
 }
 
+/** What `scanNumber` found: whether the syntax is a number, and its value when the fast path decides it (else NaN). */
+export const scanned = { ok: false, value: NaN };
+
 /**
- * Parse bytes[start, end) as a decimal number: optional blanks, optional sign,
- * digits with an optional point (`.5`, `5.` allowed), optional exponent.
- * Returns NaN for anything else (empty, `nan`, `inf`, stray characters) and for
- * values that overflow to ±Infinity.
+ * Scan a decimal number at bytes[i, end): optional sign, digits with an
+ * optional point (`.5`, `5.`), optional exponent. Returns the index of the
+ * first byte not taken. `scanned.ok` tells whether a number was read;
+ * `scanned.value` is its correctly rounded value, or NaN when the fast paths
+ * cannot decide (more digits, a larger power of ten): the caller then asks
+ * `parseFloat` of the same text. No allocation: one result slot, reused.
+ */
+export function scanNumber(bytes: Uint8Array, i: number, end: number): number {
+  scanned.ok = false;
+  scanned.value = NaN;
+  let neg = false;
+  const c = i < end ? bytes[i] : 0;
+  if (c === 45 || c === 43) {
+    neg = c === 45;
+    i++;
+  }
+  // significand = m·10^loDigits + lo: m takes digits while it stays exact (< 9e15), lo the next ≤ 4;
+  // more digits (loDigits = 99) leave the fast path
+  let m = 0;
+  let lo = 0;
+  let loDigits = 0;
+  let digits = 0;
+  let pointAt = -1; // digits read before the decimal point
+  for (; i < end; i++) {
+    const d = bytes[i] - 48;
+    if (d >= 0 && d <= 9) {
+      if (m < 9e14) m = m * 10 + d;
+      else if (loDigits < 5) (lo = lo * 10 + d), loDigits++;
+      else loDigits = 99;
+      digits++;
+    } else if (d === -2 && pointAt < 0) pointAt = digits; // '.'
+    else break;
+  }
+  const frac = pointAt < 0 ? 0 : digits - pointAt;
+  if (digits === 0) return i;
+  let exp = 0;
+  if (i < end && (bytes[i] | 32) === 101) {
+    let k = i + 1;
+    let eneg = false;
+    if (k < end && (bytes[k] === 45 || bytes[k] === 43)) {
+      eneg = bytes[k] === 45;
+      k++;
+    }
+    const es = k;
+    for (; k < end; k++) {
+      const d = bytes[k] - 48;
+      if (d < 0 || d > 9) break;
+      if (exp < 100000) exp = exp * 10 + d;
+    }
+    if (k === es) return k; // "1e" or "1e+": not a number
+    i = k;
+    if (eneg) exp = -exp;
+  }
+  scanned.ok = true;
+  const p = exp - frac;
+  if (p >= -22 && p <= 22) {
+    // m is exact: every partial sum stayed below 9e15 < 2^53
+    let v = NaN;
+    if (loDigits === 0) v = p >= 0 ? m * POW10[p] : m / POW10[-p];
+    else if (loDigits <= 4) v = scaleDecimal(m, lo, loDigits, p);
+    scanned.value = neg ? -v : v;
+  }
+  return i;
+}
+
+/**
+ * Parse bytes[start, end) as a decimal number: optional blanks, then what
+ * `scanNumber` reads, then optional blanks. Returns NaN for anything else
+ * (empty, `nan`, `inf`, stray characters) and for values that overflow to ±Infinity.
  */
 export function parseNumber(bytes: Uint8Array, start: number, end: number): number {
   let i = start;
@@ -104,71 +167,10 @@ export function parseNumber(bytes: Uint8Array, start: number, end: number): numb
   while (i < e && isBlank(bytes[i])) i++;
   while (e > i && isBlank(bytes[e - 1])) e--;
   if (i >= e) return NaN;
-  const s0 = i;
-  let neg = false;
-  let c = bytes[i];
-  if (c === 45 || c === 43) {
-    neg = c === 45;
-    i++;
-  }
-  // significand = m·10^loDigits + lo: m takes digits while it stays exact (< 9e15), lo the rest
-  let m = 0;
-  let lo = 0;
-  let loDigits = 0;
-  let digits = 0;
-  let frac = 0;
-  while (i < e) {
-    c = bytes[i] - 48;
-    if (c < 0 || c > 9) break;
-    if (m < 9e14) m = m * 10 + c;
-    else if (loDigits < 5) (lo = lo * 10 + c), loDigits++;
-    else loDigits = 99;
-    digits++;
-    i++;
-  }
-  if (i < e && bytes[i] === 46) {
-    i++;
-    while (i < e) {
-      c = bytes[i] - 48;
-      if (c < 0 || c > 9) break;
-      if (m < 9e14) m = m * 10 + c;
-      else if (loDigits < 5) (lo = lo * 10 + c), loDigits++;
-      else loDigits = 99;
-      digits++;
-      frac++;
-      i++;
-    }
-  }
-  if (digits === 0) return NaN;
-  let exp = 0;
-  if (i < e && (bytes[i] | 32) === 101) {
-    i++;
-    let eneg = false;
-    if (i < e && (bytes[i] === 45 || bytes[i] === 43)) {
-      eneg = bytes[i] === 45;
-      i++;
-    }
-    const es = i;
-    while (i < e) {
-      c = bytes[i] - 48;
-      if (c < 0 || c > 9) break;
-      if (exp < 100000) exp = exp * 10 + c;
-      i++;
-    }
-    if (i === es) return NaN;
-    if (eneg) exp = -exp;
-  }
-  if (i !== e) return NaN;
-  const p = exp - frac;
-  let v = NaN;
-  if (p >= -22 && p <= 22) {
-    // m is exact: every partial sum stayed below 9e15 < 2^53
-    if (loDigits === 0) v = p >= 0 ? m * POW10[p] : m / POW10[-p];
-    else if (loDigits <= 4) v = scaleDecimal(m, lo, loDigits, p);
-    if (neg) v = -v;
-  }
+  if (scanNumber(bytes, i, e) !== e || !scanned.ok) return NaN;
+  let v = scanned.value;
   if (v !== v) {
-    v = parseFloat(slowText(bytes, s0, e));
+    v = parseFloat(slowText(bytes, i, e));
     if (!Number.isFinite(v)) return NaN;
   }
   return v;

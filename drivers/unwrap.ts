@@ -33,12 +33,3 @@ export class Unwrapper {
     this.wraps = 0;
   }
 }
-
-/** Unwrap a block of readings src into dst (may be the same array); NaN readings pass through without touching the state. */
-export function unwrapBlock(u: Unwrapper, src: Float64Array, dst: Float64Array): void {
-  const n = src.length;
-  for (let i = 0; i < n; i++) {
-    const v = src[i];
-    dst[i] = v === v ? u.next(v) : NaN;
-  }
-}

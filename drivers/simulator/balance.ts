@@ -14,7 +14,7 @@
  * - a disturbance acts at the first sample at or after its time.
  */
 import { K_BOLTZMANN } from '../../src/physics/constants.js';
-import { Rng } from './rng.js';
+import { Rng } from '../../src/analysis/rng.js';
 import type { Scenario } from './scenario.js';
 
 /** Discrete propagator of the damped oscillator over one step h: y' = Φ·y + L·(n₁, n₂). */

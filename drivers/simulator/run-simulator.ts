@@ -35,13 +35,13 @@ export interface RunSimulatorOptions {
 }
 
 /** Default column layout of lines output when the format is switched from frames: t_s plus the channel roles. */
-function linesColumns(sc: Scenario): ColumnRole[] {
+export function linesColumns(sc: Scenario): ColumnRole[] {
   if (sc.output.format === 'lines') return sc.output.columns;
   return ['t_s', ...sc.output.channels.map((c) => c.role)];
 }
 
 /** Default channels of frames output when the format is switched from lines: the value columns, scale 1 except for angles (1e-9 rad) and metres (1e-9 m), temperature (1e-4 °C). */
-function framesChannels(sc: Scenario): { role: ColumnRole; scale: number }[] {
+export function framesChannels(sc: Scenario): { role: ColumnRole; scale: number }[] {
   if (sc.output.format === 'frames') return sc.output.channels;
   const scale: Partial<Record<string, number>> = { angle_rad: 1e-9, x_m: 1e-9, temp_C: 1e-4, a: 1e-6, b: 1e-6 };
   return sc.output.columns.filter((c) => !['t_s', 't_ms', 't_us'].includes(c)).map((role) => ({ role, scale: scale[role] ?? 1 }));

@@ -4,43 +4,19 @@
  * creep, disturbances, period steps, dropouts) and the wire output. Validated
  * once here; errors name the field. SI units throughout.
  */
-import { readFileSync } from 'node:fs';
 import { z } from 'zod';
-import { TIME_ROLES, VALUE_ROLES, type ColumnRole, type ValueRole } from '../../src/domain/block.js';
-import { firstIssue } from '../../src/config/first-issue.js';
+import { TIME_ROLES, type ColumnRole, type ValueRole } from '../../src/domain/block.js';
+import { ConfigError, readJsonFile, validateConfig } from '../../src/config/config-file.js';
+import { columnRole, fibreGeometry, finite as num, nonNegative as nonneg, partSchema, positive as pos, sensorSchema } from '../../src/config/schema-parts.js';
 import { inertiaFromParts, InertiaPartError } from '../../src/physics/inertia.js';
 import { lookupMaterial, materialNames } from '../../src/physics/materials.js';
 import { kappaRound, kappaRibbon } from '../../src/physics/torsion.js';
 
-const num = () => z.number('must be a number').finite('must be finite');
-const pos = () => z.number('must be a number').positive('must be > 0').finite('must be finite');
-const nonneg = () => z.number('must be a number').nonnegative('must be ≥ 0').finite('must be finite');
-
-const columnRole = z.enum([...TIME_ROLES, ...VALUE_ROLES, '_'] as [string, ...string[]], {
-  error: `must be one of ${[...TIME_ROLES, ...VALUE_ROLES, '_'].join(', ')}`,
-});
-
-const partSchema = z.strictObject({
-  shape: z.enum(['point', 'rod', 'bar', 'disc', 'cylinder', 'ring', 'sphere'], { error: 'must be one of point, rod, bar, disc, cylinder, ring, sphere' }),
-  mass_kg: pos(),
-  offset_m: nonneg().default(0),
-  length_m: pos().optional(),
-  width_m: pos().optional(),
-  radius_m: pos().optional(),
-  inner_radius_m: nonneg().optional(),
-  outer_radius_m: pos().optional(),
-  count: z.number('must be a number').int('must be an integer').positive('must be > 0').default(1),
-});
-
 const fibreSchema = z.strictObject({
   name: z.string('must be a string').optional(),
   material: z.string('must be a string').optional(),
-  diameter_m: pos().optional(),
+  ...fibreGeometry,
   length_m: pos(),
-  width_m: pos().optional(),
-  thickness_m: pos().optional(),
-  /** overrides the table's G, Pa */
-  shear_modulus_Pa: pos().optional(),
 });
 
 const creepSchema = z.strictObject({
@@ -52,20 +28,9 @@ const creepSchema = z.strictObject({
   start_s: nonneg().default(0),
 });
 
-const sensorSchema = z.discriminatedUnion('kind', [
-  z.strictObject({ kind: z.literal('angle') }),
-  z.strictObject({
-    kind: z.literal('encoder'),
-    /** counts per revolution, quadrature ×4 included */
-    counts_per_rev: pos(),
-    /** hardware counter width; counts wrap in two's complement (default: no wrap) */
-    counter_bits: z.number('must be a number').int('must be an integer').min(2, 'must be ≥ 2').max(32, 'must be ≤ 32').optional(),
-  }),
-  z.strictObject({
-    kind: z.literal('split-photodiode'),
-    lever_arm_m: pos(),
-    /** 1/e² radius of the Gaussian beam at the detector */
-    beam_radius_m: pos(),
+// an encoder counter of counter_bits wraps in two's complement
+const sensor = sensorSchema({
+  'split-photodiode': {
     /** total beam power on the detector, detector units (default 1) */
     power: pos().default(1),
     /** rms white noise added to each half, detector units (default 0) */
@@ -74,17 +39,14 @@ const sensorSchema = z.discriminatedUnion('kind', [
     detector_half_size_m: pos().optional(),
     /** ADC full scale: each half is clipped to [0, full_scale] (default: no clip) */
     full_scale: pos().optional(),
-  }),
-  z.strictObject({
-    kind: z.literal('psd'),
-    lever_arm_m: pos(),
-    half_length_m: pos(),
+  },
+  psd: {
     /** rms white noise on x_m, metres (default 0) */
     noise_m: nonneg().default(0),
     /** sum signal for the a/b outputs, detector units (default 1) */
     power: pos().default(1),
-  }),
-], { error: 'must be one of angle, encoder, split-photodiode, psd' });
+  },
+});
 
 const outputSchema = z.strictObject({
   format: z.enum(['lines', 'frames'], { error: 'must be "lines" or "frames"' }).default('lines'),
@@ -123,7 +85,7 @@ export const scenarioSchema = z.strictObject({
     phase_rad: num().default(0),
     equilibrium_rad: num().default(0),
   }).default({ amplitude_rad: 0, phase_rad: 0, equilibrium_rad: 0 }),
-  sensor: sensorSchema.default({ kind: 'angle' }),
+  sensor: sensor.default({ kind: 'angle' }),
   temperature_swing: z.strictObject({
     amplitude_K: nonneg(),
     period_s: pos(),
@@ -169,12 +131,13 @@ export type Scenario = Omit<Parsed, 'output'> & {
 };
 
 /** A scenario that cannot be used: the message names the field and why. */
-export class ScenarioError extends Error {
-  constructor(message: string, readonly field: string) {
-    super(message);
+export class ScenarioError extends ConfigError {
+  constructor(message: string, field: string) {
+    super(message, field);
     this.name = 'ScenarioError';
   }
 }
+const scenarioError = (m: string, f: string) => new ScenarioError(m, f);
 
 /** The raw channels a sensor kind produces (value roles). */
 export function sensorRoles(kind: Scenario['sensor']['kind']): ValueRole[] {
@@ -188,14 +151,8 @@ export function sensorRoles(kind: Scenario['sensor']['kind']): ValueRole[] {
 
 /** Validate a parsed JSON value as a scenario; throws ScenarioError naming the first bad field. */
 export function parseScenario(value: unknown, source = 'scenario'): Scenario {
-  const r = scenarioSchema.safeParse(value);
-  if (!r.success) {
-    const f = firstIssue(r.error, value);
-    throw new ScenarioError(`${source}: ${f.text}`, f.field);
-  }
-  return resolve(r.data, source);
+  return resolve(validateConfig(scenarioSchema, value, source, scenarioError), source);
 }
-
 
 /** Cross-field rules and derived quantities. */
 function resolve(s: Parsed, source: string): Scenario {
@@ -278,17 +235,5 @@ function resolve(s: Parsed, source: string): Scenario {
 
 /** Read and validate a scenario file; errors name the file and the field. */
 export function loadScenario(path: string): Scenario {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (e) {
-    throw new ScenarioError(`${path}: cannot read scenario file (${(e as NodeJS.ErrnoException).code ?? e})`, '');
-  }
-  let json: unknown;
-  try {
-    json = JSON.parse(text);
-  } catch (e) {
-    throw new ScenarioError(`${path}: not valid JSON (${(e as Error).message})`, '');
-  }
-  return parseScenario(json, path);
+  return parseScenario(readJsonFile(path, 'scenario file', scenarioError), path);
 }

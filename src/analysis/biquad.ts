@@ -64,15 +64,6 @@ export function biquadResponse(sections: Float64Array, f_Hz: number, sampleRate_
   return { magnitude: mag, phase_rad: phase };
 }
 
-/** Gain of the cascade at DC (1 for a low-pass up to rounding). */
-export function biquadDcGain(sections: Float64Array): number {
-  let g = 1;
-  for (let o = 0; o < sections.length; o += BIQUAD_STRIDE) {
-    g *= (sections[o] + sections[o + 1] + sections[o + 2]) / (1 + sections[o + 3] + sections[o + 4]);
-  }
-  return g;
-}
-
 /**
  * Group delay of the cascade at DC, in samples: Σ over sections of
  * Σk·b_k/Σb_k − Σk·a_k/Σa_k (the derivative of the phase of a polynomial in z⁻¹ at ω = 0).

@@ -128,7 +128,7 @@ export class BlockBuffer {
     return { t: this.tArr.slice(a, b), y: this.yArr.slice(a, b), flags: this.fArr.slice(a, b), channels };
   }
 
-  /** Drop everything and forget the channels (indices keep counting). */
+  /** Drop every held sample; indices keep counting and the channels stay known (later appends fill them). */
   clear(): void {
     this.dropBefore(this.end);
   }

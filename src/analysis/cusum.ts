@@ -80,25 +80,3 @@ export function cusumStep(s: CusumState, r: number, sigma: number, delta: number
 export function cusumStatistic(s: CusumState): { g: number; side: 1 | -1 } {
   return s.up >= s.down ? { g: s.up, side: 1 } : { g: s.down, side: -1 };
 }
-
-/** Run the CUSUM over a whole series; returns g⁺, g⁻ and the first alarm index (−1: none). */
-export function cusumSeries(r: ArrayLike<number>, sigma: ArrayLike<number>, delta: number, opts: CusumOptions = {}): { up: Float64Array; down: Float64Array; firstAlarm: number } {
-  const o = cusumOptions(opts);
-  const up = new Float64Array(r.length);
-  const down = new Float64Array(r.length);
-  let s = cusumInit();
-  let firstAlarm = -1;
-  for (let i = 0; i < r.length; i++) {
-    s = cusumStep(s, r[i], sigma[i], delta, o);
-    up[i] = s.up;
-    down[i] = s.down;
-    if (firstAlarm < 0 && cusumStatistic(s).g > o.h) firstAlarm = i;
-  }
-  return { up, down, firstAlarm };
-}
-
-/** Siegmund's approximation of the in-control average run length of a one-sided CUSUM on N(0,1) with reference k and interval h (standardized units). */
-export function siegmundArl0(k: number, h: number): number {
-  const b = 2 * k * (h + 1.166);
-  return (Math.exp(b) - b - 1) / (2 * k * k);
-}

@@ -29,6 +29,7 @@
  * compares s² with a noise level found independently of the model (see
  * `noiseSigma`), so it shows model misfit rather than being 1 by construction.
  */
+import type { WindowResult } from '../domain/window-result.js';
 import { FIT_STATUS, type FitStatus } from './fit-status.js';
 import { choleskyInPlace, choleskySolve, spdInverse } from './linalg.js';
 import { periodSeed } from './period-seed.js';
@@ -76,8 +77,11 @@ export interface DampedSineOptions {
   minSamples?: number;
 }
 
-/** Result of one window's fit; all numbers null unless status is 'ok'. */
-export interface DampedSineFit {
+/** Result of one window's fit; all numbers null unless status is 'ok' (the shared fields mean what they mean in a window result). */
+export interface DampedSineFit extends Pick<WindowResult,
+  'period_s' | 'period_sigma_s' | 'decay_time_s' | 'decay_time_sigma_s' | 'amplitude_rad' | 'amplitude_sigma_rad'
+  | 'equilibrium_rad' | 'equilibrium_sigma_rad' | 'drift_rad_per_s' | 'drift_sigma_rad_per_s' | 'phase_rad'
+  | 'residual_rms_rad' | 'chi2_red'> {
   status: FitStatus;
   /** human-readable detail of a rejection */
   message?: string;
@@ -85,26 +89,10 @@ export interface DampedSineFit {
   /** unmasked samples with positive weight */
   samples: number;
   iterations: number;
-  period_s: number | null;
-  period_sigma_s: number | null;
-  /** τ; null when the fitted decay rate is ≤ 0 (no decay resolved, τ would be ∞ or negative) */
-  decay_time_s: number | null;
-  decay_time_sigma_s: number | null;
   /** 1/τ, always finite for an 'ok' fit (may be slightly negative within noise) */
   decay_rate_per_s: number | null;
   decay_rate_sigma_per_s: number | null;
-  amplitude_rad: number | null;
-  amplitude_sigma_rad: number | null;
-  equilibrium_rad: number | null;
-  equilibrium_sigma_rad: number | null;
-  drift_rad_per_s: number | null;
-  drift_sigma_rad_per_s: number | null;
-  phase_rad: number | null;
   phase_sigma_rad: number | null;
-  /** √(Σw·r²/Σw) */
-  residual_rms_rad: number | null;
-  /** s² / σ_noise², σ_noise from `noiseSigma` or the difference estimate */
-  chi2_red: number | null;
   /** σ_noise used for chi2_red, rad */
   noise_sigma_rad: number | null;
   noise_source: 'given' | 'differences' | null;

@@ -7,9 +7,10 @@
  * oscillator" and "Fibres"; any mechanics text): ω_d = 2π/T,
  * ω₀² = ω_d² + γ², T₀ = 2π/ω₀, Q = ω₀τ/2 = π·τ/T₀, log decrement δ = T/τ,
  * κ = I·ω₀² = I·(2π/T₀)², round fibre G = 32·κ·L/(π·d⁴), flat ribbon
- * G = 3·κ·L/(w·t³) (w ≫ t). Written inline here on purpose; src/physics holds
- * the same formulas for the rest of the app.
+ * G = 3·κ·L/(w·t³) (w ≫ t). The values come from src/physics/torsion.ts;
+ * their derivatives, for the propagation, are written out here.
  */
+import { kappaFromPeriod, qFromDecay, shearModulusRibbon, shearModulusRound, undampedPeriod } from '../physics/torsion.js';
 
 /** What `deriveQuantities` reads from a fit (a DampedSineFit satisfies it). */
 export interface FitForDerive {
@@ -69,7 +70,7 @@ export function deriveQuantities(fit: FitForDerive, ctx: DeriveContext = {}): De
   const wd = (2 * Math.PI) / T;
   const W = wd * wd + g * g; // ω₀²
   const dWdT = (-2 * wd * wd) / T, dWdg = 2 * g;
-  const T0 = (2 * Math.PI) / Math.sqrt(W);
+  const T0 = undampedPeriod(T, g > 0 ? 1 / g : Infinity);
   const k = -Math.PI / W ** 1.5; // ∂T₀/∂W
   const dT0dT = k * dWdT, dT0dg = k * dWdg;
   const out: Derived = { ...NULLS };
@@ -78,14 +79,14 @@ export function deriveQuantities(fit: FitForDerive, ctx: DeriveContext = {}): De
   out.log_decrement = T * g;
   out.log_decrement_sigma = prop(g, T);
   if (g > 0) {
-    const q = Math.PI / (g * T0);
+    const q = qFromDecay(1 / g, T0);
     out.q = q;
     out.q_sigma = prop((-q / T0) * dT0dT, -q / g - (q / T0) * dT0dg);
   }
   const I = ctx.inertia_kg_m2;
   if (I !== undefined && I > 0) {
     const sI = ctx.inertia_sigma_kg_m2 ?? 0;
-    const kappa = I * W;
+    const kappa = kappaFromPeriod(I, T0);
     const sK = Math.sqrt((W * sI) ** 2 + (I * prop(dWdT, dWdg)) ** 2);
     out.kappa_Nm_per_rad = kappa;
     out.kappa_sigma_Nm_per_rad = sK;
@@ -93,12 +94,12 @@ export function deriveQuantities(fit: FitForDerive, ctx: DeriveContext = {}): De
     const rel = (s: number | undefined, v: number, p = 1): number => (p * (s ?? 0)) / v;
     if (L !== undefined && L > 0 && ctx.diameter_m !== undefined && ctx.diameter_m > 0) {
       const d = ctx.diameter_m;
-      const G = (32 * kappa * L) / (Math.PI * d ** 4);
+      const G = shearModulusRound(kappa, d, L);
       out.shear_modulus_Pa = G;
       out.shear_modulus_sigma_Pa = G * Math.hypot(sK / kappa, rel(ctx.length_sigma_m, L), rel(ctx.diameter_sigma_m, d, 4));
     } else if (L !== undefined && L > 0 && ctx.width_m !== undefined && ctx.width_m > 0 && ctx.thickness_m !== undefined && ctx.thickness_m > 0) {
       const w = ctx.width_m, th = ctx.thickness_m;
-      const G = (3 * kappa * L) / (w * th ** 3);
+      const G = shearModulusRibbon(kappa, w, th, L);
       out.shear_modulus_Pa = G;
       out.shear_modulus_sigma_Pa = G * Math.hypot(sK / kappa, rel(ctx.length_sigma_m, L), rel(ctx.width_sigma_m, w), rel(ctx.thickness_sigma_m, th, 3));
     }

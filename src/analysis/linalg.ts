@@ -48,15 +48,9 @@ export function choleskySolve(l: Float64Array, n: number, b: ArrayLike<number>, 
  * factorisation; the result is scaled back. Does not modify `a`.
  */
 export function spdInverse(a: ArrayLike<number>, n: number): Float64Array | null {
-  const d = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    const v = a[i * n + i];
-    if (!(v > 0) || !Number.isFinite(v)) return null;
-    d[i] = 1 / Math.sqrt(v);
-  }
-  const l = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) l[i * n + j] = a[i * n + j] * d[i] * d[j];
-  if (!choleskyInPlace(l, n)) return null;
+  const f = equilibratedCholesky(a, n);
+  if (!f) return null;
+  const { l, d } = f;
   // reject near-singular: condition of the equilibrated matrix ≳ 1e15
   let minL = Infinity, maxL = 0;
   for (let i = 0; i < n; i++) { const v = l[i * n + i]; if (v < minL) minL = v; if (v > maxL) maxL = v; }
@@ -78,24 +72,31 @@ export function spdInverse(a: ArrayLike<number>, n: number): Float64Array | null
   return inv;
 }
 
-/** Quadratic form gᵀ·C·g for a row-major n×n matrix C. */
-export function quadForm(c: ArrayLike<number>, n: number, g: ArrayLike<number>): number {
-  let s = 0;
-  for (let i = 0; i < n; i++) {
-    let r = 0;
-    for (let j = 0; j < n; j++) r += c[i * n + j] * g[j];
-    s += g[i] * r;
-  }
-  return s;
+/**
+ * Solve A·x = b for a symmetric positive-definite A (n×n, row major),
+ * equilibrated first like `spdInverse` so badly scaled columns (seconds
+ * beside unit amplitudes) do not spoil the factorisation; null when A is not
+ * positive definite. Does not modify `a` or `b`.
+ */
+export function spdSolve(a: ArrayLike<number>, n: number, b: ArrayLike<number>): Float64Array | null {
+  const f = equilibratedCholesky(a, n);
+  if (!f) return null;
+  const { l, d } = f;
+  const rhs = Float64Array.from({ length: n }, (_, i) => b[i] * d[i]);
+  const x = choleskySolve(l, n, rhs, rhs);
+  for (let i = 0; i < n; i++) x[i] *= d[i];
+  return x;
 }
 
-/** Convert a row-major n×n Float64Array to nested arrays. */
-export function toNested(a: ArrayLike<number>, n: number): number[][] {
-  const out: number[][] = [];
+/** Cholesky factor L of D·A·D with D = diag(A)^-½, and D; null when A is not positive definite. */
+function equilibratedCholesky(a: ArrayLike<number>, n: number): { l: Float64Array; d: Float64Array } | null {
+  const d = new Float64Array(n);
   for (let i = 0; i < n; i++) {
-    const row: number[] = new Array(n);
-    for (let j = 0; j < n; j++) row[j] = a[i * n + j];
-    out.push(row);
+    const v = a[i * n + i];
+    if (!(v > 0) || !Number.isFinite(v)) return null;
+    d[i] = 1 / Math.sqrt(v);
   }
-  return out;
+  const l = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) l[i * n + j] = a[i * n + j] * d[i] * d[j];
+  return choleskyInPlace(l, n) ? { l, d } : null;
 }

@@ -1,15 +1,17 @@
 /**
  * Logarithmic creep of the equilibrium after a disturbance at t0:
  *   θ_eq(t) = θ_∞ + a·ln(1 + (t − t0)/t_c),   rate = a/(t_c + t − t0).
- * For a fixed t_c the model is linear in (θ_∞, a), so the weighted least
- * squares is solved in closed form and t_c found by a golden-section search
- * on ln t_c (χ² is smooth and, in practice, unimodal in ln t_c). The 3×3
+ * For a fixed t_c the model is linear in (θ_∞, a): a scan over ln t_c with
+ * that closed-form solve gives the start (χ² may have more than one dip in
+ * t_c), then all three are fitted together by Levenberg–Marquardt through
+ * the project's wrapper (lm.ts), with the analytic Jacobian. The 3×3
  * covariance comes from the Jacobian at the optimum, scaled by χ²_red when
  * the scatter exceeds the σ's (the fitted window σ's are often optimistic).
  *
  * A shift of t0 is absorbed by t_c (t_c' = t_c + t0' − t0), so t0 may be any
  * time at or after the true onset, e.g. the first point fitted.
  */
+import { fitLM } from './lm.js';
 
 /** A fitted log-creep model; times in seconds, angles in radians. */
 export interface LogCreepFit {
@@ -67,20 +69,18 @@ export function fitLogCreep(t: ArrayLike<number>, theta: ArrayLike<number>, sigm
   }
   const n = ts.length;
   if (n < 5) return null;
-  const t0 = opts.t0_s ?? Math.min(...ts);
-  const tLast = Math.max(...ts);
-  const tFirst = Math.min(...ts);
+  let tFirst = Infinity, tLast = -Infinity;
+  for (const v of ts) { tFirst = Math.min(tFirst, v); tLast = Math.max(tLast, v); }
+  const t0 = opts.t0_s ?? tFirst;
   const span = tLast - t0;
   if (!(span > 0)) return null;
-  const lo = Math.log(opts.tcMin_s ?? 60);
-  const hi = Math.log(opts.tcMax_s ?? 100 * span);
+  const tcMin = opts.tcMin_s ?? 60, tcMax = opts.tcMax_s ?? 100 * span;
 
-  // χ² profile over t_c with (θ_∞, a) solved linearly
-  const solve = (tc: number) => {
+  // start: for a fixed t_c the model is linear in (θ_∞, a); scan ln t_c for the best such fit
+  const linear = (tc: number) => {
     let sw = 0, sx = 0, sy = 0, sxx = 0, sxy = 0;
     for (let i = 0; i < n; i++) {
-      const x = Math.log1p((ts[i] - t0) / tc);
-      const w = ws[i];
+      const x = Math.log1p((ts[i] - t0) / tc), w = ws[i];
       sw += w; sx += w * x; sy += w * ys[i]; sxx += w * x * x; sxy += w * x * ys[i];
     }
     const det = sw * sxx - sx * sx;
@@ -88,69 +88,51 @@ export function fitLogCreep(t: ArrayLike<number>, theta: ArrayLike<number>, sigm
     const a = (sw * sxy - sx * sy) / det;
     const th = (sy - a * sx) / sw;
     let chi2 = 0;
-    for (let i = 0; i < n; i++) {
-      const r = ys[i] - th - a * Math.log1p((ts[i] - t0) / tc);
-      chi2 += ws[i] * r * r;
-    }
-    return { a, th, chi2 };
+    for (let i = 0; i < n; i++) chi2 += ws[i] * (ys[i] - th - a * Math.log1p((ts[i] - t0) / tc)) ** 2;
+    return { th, a, tc, chi2 };
   };
-  const f = (u: number) => solve(Math.exp(u))?.chi2 ?? Infinity;
-  // coarse scan first (guards against a local minimum), then golden section around the best
-  const scanN = 40;
-  let best = 0;
-  let bestV = Infinity;
-  for (let k = 0; k <= scanN; k++) {
-    const v = f(lo + ((hi - lo) * k) / scanN);
-    if (v < bestV) { bestV = v; best = k; }
+  let start: { th: number; a: number; tc: number; chi2: number } | null = null;
+  for (let k = 0; k <= 40; k++) {
+    const r = linear(Math.exp(Math.log(tcMin) + (Math.log(tcMax / tcMin) * k) / 40));
+    if (r && (!start || r.chi2 < start.chi2)) start = r;
   }
-  let a0 = lo + ((hi - lo) * Math.max(0, best - 1)) / scanN;
-  let b0 = lo + ((hi - lo) * Math.min(scanN, best + 1)) / scanN;
-  const g = (Math.sqrt(5) - 1) / 2;
-  let c = b0 - g * (b0 - a0);
-  let d = a0 + g * (b0 - a0);
-  let fc = f(c);
-  let fd = f(d);
-  for (let it = 0; it < 80 && b0 - a0 > 1e-7; it++) {
-    if (fc < fd) { b0 = d; d = c; fd = fc; c = b0 - g * (b0 - a0); fc = f(c); }
-    else { a0 = c; c = d; fc = fd; d = a0 + g * (b0 - a0); fd = f(d); }
-  }
-  const u = (a0 + b0) / 2;
-  const tc = Math.exp(u);
-  const sol = solve(tc);
-  if (!sol) return null;
-  const atBound = u - lo < 1e-3 * (hi - lo) || hi - u < 1e-3 * (hi - lo);
+  if (!start) return null;
 
-  // covariance s²·(JᵀWJ)⁻¹ at the optimum, p = [θ_∞, a, t_c]
-  const M = [[0, 0, 0], [0, 0, 0], [0, 0, 0]];
-  for (let i = 0; i < n; i++) {
-    const dt = ts[i] - t0;
-    const J = [1, Math.log1p(dt / tc), (-sol.a * dt) / (tc * (tc + dt))];
-    for (let r = 0; r < 3; r++) for (let q = 0; q < 3; q++) M[r][q] += ws[i] * J[r] * J[q];
-  }
-  // Jacobi scaling: θ (mrad), a (µrad) and t_c (ks) differ by many orders of magnitude
-  const dg = [Math.sqrt(M[0][0]), Math.sqrt(M[1][1]), Math.sqrt(M[2][2])];
-  const Ms = M.map((row, r) => row.map((v, q) => v / (dg[r] * dg[q])));
-  const invS = dg.every((x) => x > 0) ? invert3(Ms) : null;
-  const inv = invS ? invS.map((row, r) => row.map((v, q) => v / (dg[r] * dg[q]))) : null;
+  // the nonlinear fit of all three through the project's Levenberg–Marquardt wrapper (lm.ts)
+  const dts = ts.map((v) => v - t0);
+  const r = fitLM({
+    x: dts, y: ys, weights: ws,
+    model: ([th, a, tc]) => (dt) => th + a * Math.log1p(dt / tc),
+    jacobian: ([, a, tc]) => (dt) => [1, Math.log1p(dt / tc), (-a * dt) / (tc * (tc + dt))],
+    p0: [start.th, start.a, start.tc],
+    scale: [Math.max(Math.abs(start.th), Math.abs(start.a), 1e-12), Math.max(Math.abs(start.a), 1e-12), start.tc],
+    min: [-Infinity, -Infinity, tcMin], max: [Infinity, Infinity, tcMax],
+  });
+  const [th, a, tc] = r.params;
+  if (![th, a, tc].every(Number.isFinite)) return null;
   const dof = n - 3;
-  const chi2Red = dof > 0 ? sol.chi2 / dof : NaN;
-  // scale by χ²_red only when it exceeds 1: fitted σ's may be optimistic, not pessimistic
-  const scale = sigma && Number.isFinite(chi2Red) ? Math.max(1, chi2Red) : Number.isFinite(chi2Red) ? chi2Red : 1;
-  const cov = inv ? inv.map((row) => row.map((v) => v * scale)) : [[NaN, NaN, NaN], [NaN, NaN, NaN], [NaN, NaN, NaN]];
+  const chi2Red = r.ssr / dof;
+  // the wrapper scales the covariance by χ²_red; with given σ's keep that only when it exceeds 1
+  // (fitted window σ's may be optimistic, not pessimistic)
+  const scale = sigma && chi2Red > 0 ? Math.max(1, chi2Red) / chi2Red : 1;
+  const cov = r.covariance.map((row) => row.map((v) => v * scale));
+  const sd = (k: number) => Math.sqrt(Math.max(cov[k][k], 0));
+  // t_c within 0.1 % (in ln t_c) of a search bound: poorly determined
+  const near = 1e-3 * Math.log(tcMax / tcMin);
   return {
     t0_s: t0,
-    theta_inf_rad: sol.th,
-    a_rad: sol.a,
+    theta_inf_rad: th,
+    a_rad: a,
     t_c_s: tc,
     cov,
-    theta_inf_sigma_rad: Math.sqrt(cov[0][0]),
-    a_sigma_rad: Math.sqrt(cov[1][1]),
-    t_c_sigma_s: Math.sqrt(cov[2][2]),
+    theta_inf_sigma_rad: sd(0),
+    a_sigma_rad: sd(1),
+    t_c_sigma_s: sd(2),
     chi2_red: chi2Red,
     n,
     t_first_s: tFirst,
     t_last_s: tLast,
-    t_c_at_bound: atBound,
+    t_c_at_bound: Math.log(tc / tcMin) < near || Math.log(tcMax / tc) < near,
   };
 }
 
@@ -189,15 +171,4 @@ export function forecastSettle(fit: LogCreepFit, threshold_rad_per_s: number): S
   else if (!Number.isFinite(sigma)) reason = 'covariance not finite';
   else if (t - fit.t_last_s > 20 * span) reason = 'forecast beyond 20× the fitted span';
   return { t_s: t, sigma_s: sigma, reliable: reason === undefined, reason };
-}
-
-/** Inverse of a symmetric 3×3 matrix by cofactors; null when singular. */
-function invert3(m: number[][]): number[][] | null {
-  const [[a, b, c], [d, e, f], [g, h, i]] = m;
-  const A = e * i - f * h, B = -(d * i - f * g), C = d * h - e * g;
-  const det = a * A + b * B + c * C;
-  if (!(Math.abs(det) > 0) || !Number.isFinite(det)) return null;
-  const D = -(b * i - c * h), E = a * i - c * g, F = -(a * h - b * g);
-  const G = b * f - c * e, H = -(a * f - c * d), I = a * e - b * d;
-  return [[A / det, D / det, G / det], [B / det, E / det, H / det], [C / det, F / det, I / det]];
 }

@@ -25,6 +25,7 @@
  * (zero after detrending) so the sample grid stays uniform.
  */
 import { nextPow2, realSpectrumPower } from './fft.js';
+import { spdSolve } from './linalg.js';
 
 /** Options of `periodSeed`. */
 export interface PeriodSeedOptions {
@@ -255,27 +256,6 @@ export function linearSineFit(
     }
   }
   for (let j = 0; j < 4; j++) for (let k = j + 1; k < 4; k++) ata[j * 4 + k] = ata[k * 4 + j];
-  // Gaussian elimination with partial pivoting (4×4, possibly poorly scaled)
-  const a = Array.from(ata), b = Array.from(atb);
-  for (let c = 0; c < 4; c++) {
-    let piv = c;
-    for (let r = c + 1; r < 4; r++) if (Math.abs(a[r * 4 + c]) > Math.abs(a[piv * 4 + c])) piv = r;
-    if (!(Math.abs(a[piv * 4 + c]) > 0)) return null;
-    if (piv !== c) {
-      for (let k = 0; k < 4; k++) { const tmp = a[c * 4 + k]; a[c * 4 + k] = a[piv * 4 + k]; a[piv * 4 + k] = tmp; }
-      const tb = b[c]; b[c] = b[piv]; b[piv] = tb;
-    }
-    for (let r = c + 1; r < 4; r++) {
-      const f = a[r * 4 + c] / a[c * 4 + c];
-      for (let k = c; k < 4; k++) a[r * 4 + k] -= f * a[c * 4 + k];
-      b[r] -= f * b[c];
-    }
-  }
-  const xsol = [0, 0, 0, 0];
-  for (let r = 3; r >= 0; r--) {
-    let s = b[r];
-    for (let k = r + 1; k < 4; k++) s -= a[r * 4 + k] * xsol[k];
-    xsol[r] = s / a[r * 4 + r];
-  }
-  return xsol.every(Number.isFinite) ? xsol : null;
+  const x = spdSolve(ata, 4, atb);
+  return x && x.every(Number.isFinite) ? Array.from(x) : null;
 }

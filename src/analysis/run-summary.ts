@@ -4,6 +4,7 @@
  * that accounts for overlapping windows and for scatter beyond the error bars.
  */
 import type { WindowResult } from '../domain/window-result.js';
+import { weightedLine, weightedMean } from './weighted-stats.js';
 
 export interface RunSummaryNumbers {
   windows: number;
@@ -16,62 +17,12 @@ export interface RunSummaryNumbers {
   kappa_sigma_Nm_per_rad: number | null;
   shear_modulus_Pa: number | null;
   shear_modulus_sigma_Pa: number | null;
+  /** equilibrium creep: weighted slope of equilibrium_rad against t_mid_s */
   equilibrium_rate_rad_per_s: number | null;
   equilibrium_rate_sigma_rad_per_s: number | null;
   amplitude_rad: number | null;
   /** mean temperature of the accepted windows, °C (null without a temp_C channel) */
   temp_C: number | null;
-}
-
-/**
- * Weighted mean with σ. Overlapping windows share samples, so N windows carry
- * only about N·step/window independent ones: σ is inflated by √(overlap).
- * When the windows scatter more than their error bars say (Birge ratio
- * √(χ²/(n−1)) > 1), the scatter is trusted instead (common practice, no source).
- */
-export function weightedMean(v: number[], s: number[], overlap = 1): { mean: number; sigma: number } | null {
-  let sw = 0, swx = 0;
-  for (let i = 0; i < v.length; i++) {
-    if (!(s[i] > 0) || !Number.isFinite(v[i])) continue;
-    const w = 1 / (s[i] * s[i]);
-    sw += w;
-    swx += w * v[i];
-  }
-  if (sw === 0) return null;
-  const mean = swx / sw;
-  let chi2 = 0, n = 0;
-  for (let i = 0; i < v.length; i++) {
-    if (!(s[i] > 0) || !Number.isFinite(v[i])) continue;
-    chi2 += ((v[i] - mean) / s[i]) ** 2;
-    n++;
-  }
-  const birge = n > 1 ? Math.sqrt(chi2 / (n - 1)) : 1;
-  return { mean, sigma: Math.sqrt(overlap / sw) * Math.max(1, birge) };
-}
-
-/**
- * Weighted straight line y = a + b·x with σ(b), Birge-scaled and overlap-inflated
- * like `weightedMean`.
- */
-export function weightedSlope(x: number[], y: number[], s: number[], overlap = 1): { slope: number; sigma: number } | null {
-  let S = 0, Sx = 0, Sy = 0, Sxx = 0, Sxy = 0, n = 0;
-  for (let i = 0; i < x.length; i++) {
-    if (!(s[i] > 0) || !Number.isFinite(y[i])) continue;
-    const w = 1 / (s[i] * s[i]);
-    S += w; Sx += w * x[i]; Sy += w * y[i]; Sxx += w * x[i] * x[i]; Sxy += w * x[i] * y[i];
-    n++;
-  }
-  const D = S * Sxx - Sx * Sx;
-  if (n < 3 || !(D > 0)) return null;
-  const b = (S * Sxy - Sx * Sy) / D;
-  const a = (Sxx * Sy - Sx * Sxy) / D;
-  let chi2 = 0;
-  for (let i = 0; i < x.length; i++) {
-    if (!(s[i] > 0) || !Number.isFinite(y[i])) continue;
-    chi2 += ((y[i] - a - b * x[i]) / s[i]) ** 2;
-  }
-  const birge = Math.sqrt(chi2 / (n - 2));
-  return { slope: b, sigma: Math.sqrt((overlap * S) / D) * Math.max(1, birge) };
 }
 
 /**
@@ -106,9 +57,9 @@ export function summariseWindows(ws: Iterable<WindowResult>, overlap = 1): RunSu
     if (w.temp_C !== null && Number.isFinite(w.temp_C)) { tempSum += w.temp_C; tempN++; }
   }
   const o = Math.max(1, overlap);
-  const P = weightedMean(period.v, period.s, o), Q = weightedMean(q.v, q.s, o);
-  const K = weightedMean(kappa.v, kappa.s, o), G = weightedMean(g.v, g.s, o);
-  const rate = weightedSlope(x, y, sy, o);
+  const P = weightedMean(period.v, period.s, { overlap: o }), Q = weightedMean(q.v, q.s, { overlap: o });
+  const K = weightedMean(kappa.v, kappa.s, { overlap: o }), G = weightedMean(g.v, g.s, { overlap: o });
+  const rate = weightedLine(x, y, sy, { overlap: o });
   return {
     windows,
     windows_ok: ok,
@@ -121,7 +72,7 @@ export function summariseWindows(ws: Iterable<WindowResult>, overlap = 1): RunSu
     shear_modulus_Pa: G?.mean ?? null,
     shear_modulus_sigma_Pa: G?.sigma ?? null,
     equilibrium_rate_rad_per_s: rate?.slope ?? null,
-    equilibrium_rate_sigma_rad_per_s: rate?.sigma ?? null,
+    equilibrium_rate_sigma_rad_per_s: rate?.slope_sigma ?? null,
     amplitude_rad: amplitude,
     temp_C: tempN ? tempSum / tempN : null,
     t_end_s: tEnd,

@@ -3,7 +3,7 @@
  * previous window's period) → damped-sine fit → derived quantities. Pure: the
  * pipeline's `analyse` operator and the one-shot `fit` command both call it.
  */
-import type { WindowResult } from '../domain/window-result.js';
+import { FITTED_FIELDS, SIGMA_FIELDS, type WindowResult } from '../domain/window-result.js';
 import { periodSeed } from './period-seed.js';
 import { fitDampedSine, type DampedSineFit } from './damped-sine.js';
 import { deriveQuantities, type DeriveContext } from './derive.js';
@@ -33,8 +33,6 @@ export interface WindowAnalysisOptions {
   minPeriods?: number;
   /** multiply every standard uncertainty by this (band-limited noise after decimation; default 1) */
   sigmaScale?: number;
-  /** gain of the anti-alias filter at the oscillation frequency: the amplitude is divided by it (default none) */
-  gainAt?: (frequency_Hz: number) => number;
 }
 
 /** The full result with the fit's covariance kept for callers that need it. */
@@ -43,21 +41,10 @@ export interface WindowAnalysis {
   fit: DampedSineFit | null;
 }
 
-const NUMBERS = [
-  'period_s', 'period_sigma_s', 'decay_time_s', 'decay_time_sigma_s', 'q', 'q_sigma', 'amplitude_rad', 'amplitude_sigma_rad',
-  'equilibrium_rad', 'equilibrium_sigma_rad', 'drift_rad_per_s', 'drift_sigma_rad_per_s', 'phase_rad', 'residual_rms_rad',
-  'chi2_red', 'kappa_Nm_per_rad', 'kappa_sigma_Nm_per_rad', 'shear_modulus_Pa', 'shear_modulus_sigma_Pa',
-] as const;
-
-const SIGMAS = [
-  'period_sigma_s', 'decay_time_sigma_s', 'q_sigma', 'amplitude_sigma_rad', 'equilibrium_sigma_rad',
-  'drift_sigma_rad_per_s', 'kappa_sigma_Nm_per_rad', 'shear_modulus_sigma_Pa',
-] as const;
-
 /** A result with every fitted number null (for rejected windows). */
 export function emptyResult(w: Pick<WindowSamples, 'index' | 't_start_s' | 't_end_s'>, status: string, samples: number): WindowResult {
   const r = { index: w.index, t_start_s: w.t_start_s, t_mid_s: (w.t_start_s + w.t_end_s) / 2, t_end_s: w.t_end_s, samples, status, temp_C: null } as WindowResult;
-  for (const k of NUMBERS) (r as unknown as Record<string, null>)[k] = null;
+  for (const k of FITTED_FIELDS) (r as unknown as Record<string, null>)[k] = null;
   return r;
 }
 
@@ -81,12 +68,11 @@ export function analyseWindow(w: WindowSamples, opts: WindowAnalysisOptions = {}
   r.temp_C = meanFinite(w.temp);
   if (fit.status !== 'ok') return { result: r, fit };
   const d = deriveQuantities(fit, opts.derive);
-  const gain = opts.gainAt ? opts.gainAt(1 / fit.period_s!) : 1;
   Object.assign(r, {
     period_s: fit.period_s, period_sigma_s: fit.period_sigma_s,
     decay_time_s: fit.decay_time_s, decay_time_sigma_s: fit.decay_time_sigma_s,
     q: d.q, q_sigma: d.q_sigma,
-    amplitude_rad: fit.amplitude_rad! / gain, amplitude_sigma_rad: fit.amplitude_sigma_rad! / gain,
+    amplitude_rad: fit.amplitude_rad, amplitude_sigma_rad: fit.amplitude_sigma_rad,
     equilibrium_rad: fit.equilibrium_rad, equilibrium_sigma_rad: fit.equilibrium_sigma_rad,
     drift_rad_per_s: fit.drift_rad_per_s, drift_sigma_rad_per_s: fit.drift_sigma_rad_per_s,
     phase_rad: fit.phase_rad, residual_rms_rad: fit.residual_rms_rad, chi2_red: fit.chi2_red,
@@ -95,7 +81,7 @@ export function analyseWindow(w: WindowSamples, opts: WindowAnalysisOptions = {}
   });
   const k = opts.sigmaScale ?? 1;
   if (k !== 1) {
-    for (const f of SIGMAS) {
+    for (const f of SIGMA_FIELDS) {
       const v = r[f];
       if (v !== null) (r as unknown as Record<string, number>)[f] = v * k;
     }

@@ -4,7 +4,7 @@
  * only when that command runs, so a quick query starts fast.
  */
 import { Command, CommanderError, Option } from 'commander';
-import { StationError } from '../config/station.js';
+import { ConfigError } from '../config/config-file.js';
 import { RuntimeError, UsageError } from '../domain/errors.js';
 
 const dbOption = () =>
@@ -184,7 +184,7 @@ function exitFor(e: unknown): number {
     if (e.code === 'commander.helpDisplayed' || e.code === 'commander.version' || e.code === 'commander.help') return 0;
     return 2; // commander already printed the message
   }
-  if (e instanceof UsageError || e instanceof StationError) {
+  if (e instanceof UsageError || e instanceof ConfigError) {
     process.stderr.write(`fibrewatch: ${e.message}\n`);
     return 2;
   }

@@ -3,48 +3,23 @@
  * (CONTRACT.md). Validated once at the boundary; everything inward receives a
  * typed, trusted `Station`.
  */
-import { readFileSync } from 'node:fs';
 import { z } from 'zod';
-import { TIME_ROLES, VALUE_ROLES } from '../domain/block.js';
-import { firstIssue } from './first-issue.js';
-
-const pos = (what = 'must be > 0') => z.number(what === 'must be > 0' ? 'must be a number' : what).positive(what);
-const finite = () => z.number('must be a number').finite('must be finite');
-
-const columnRole = z.enum([...TIME_ROLES, ...VALUE_ROLES, '_'] as [string, ...string[]], {
-  error: `must be one of ${[...TIME_ROLES, ...VALUE_ROLES, '_'].join(', ')}`,
-});
+import { ConfigError, readJsonFile, validateConfig } from './config-file.js';
+import { columnRole, fibreGeometry, finite, nonNegative, partSchema, positive as pos, positiveInt, sensorSchema } from './schema-parts.js';
 
 const fibreSchema = z.strictObject({
   name: z.string('must be a string').min(1, 'must not be empty'),
   material: z.string('must be a string').optional(),
-  /** round fibre */
-  diameter_m: pos().optional(),
+  /** round fibre (diameter_m) or flat ribbon (width_m ≫ thickness_m); shear_modulus_Pa overrides the materials table */
+  ...fibreGeometry,
   length_m: pos().optional(),
-  /** flat ribbon (width ≫ thickness) instead of a round fibre */
-  width_m: pos().optional(),
-  thickness_m: pos().optional(),
-  /** overrides of the materials table */
-  shear_modulus_Pa: pos().optional(),
+  /** overrides the materials table */
   tensile_strength_Pa: pos().optional(),
-});
-
-const partSchema = z.strictObject({
-  shape: z.enum(['point', 'rod', 'bar', 'disc', 'cylinder', 'ring', 'sphere'], { error: 'must be one of point, rod, bar, disc, cylinder, ring, sphere' }),
-  mass_kg: pos(),
-  /** distance of the part's centre from the fibre axis */
-  offset_m: z.number('must be a number').nonnegative('must be ≥ 0').default(0),
-  length_m: pos().optional(),
-  width_m: pos().optional(),
-  radius_m: pos().optional(),
-  inner_radius_m: z.number('must be a number').nonnegative('must be ≥ 0').optional(),
-  outer_radius_m: pos().optional(),
-  count: z.number('must be a number').int('must be an integer').positive('must be > 0').default(1),
 });
 
 const pendulumSchema = z.strictObject({
   inertia_kg_m2: pos().optional(),
-  inertia_sigma_kg_m2: z.number('must be a number').nonnegative('must be ≥ 0').optional(),
+  inertia_sigma_kg_m2: nonNegative().optional(),
   /** suspended mass, for the tensile load on the fibre */
   mass_kg: pos().optional(),
   /** parts list, when the inertia is to be computed */
@@ -59,7 +34,7 @@ const channelSchema = z.strictObject({
 
 const inputSchema = z.strictObject({
   device: z.string('must be a string').min(1, 'must not be empty').optional(),
-  baud: z.number('must be a number').int('must be an integer').positive('must be > 0').default(115200),
+  baud: positiveInt().default(115200),
   format: z.enum(['lines', 'frames'], { error: 'must be "lines" or "frames"' }).default('lines'),
   columns: z.array(columnRole).min(1, 'must list at least one column').optional(),
   separator: z.enum([',', ';', 'tab', 'spaces'], { error: 'must be one of ",", ";", "tab", "spaces"' }).default(','),
@@ -74,27 +49,15 @@ const inputSchema = z.strictObject({
   }).prefault({}),
 });
 
-const sensorSchema = z.discriminatedUnion('kind', [
-  z.strictObject({ kind: z.literal('angle') }),
-  z.strictObject({
-    kind: z.literal('encoder'),
-    counts_per_rev: pos(),
-    counter_bits: z.number('must be a number').int('must be an integer').min(2, 'must be ≥ 2').max(53, 'must be ≤ 53').optional(),
-  }),
-  z.strictObject({
-    kind: z.literal('split-photodiode'),
-    lever_arm_m: pos(),
-    beam_radius_m: pos(),
+const sensor = sensorSchema({
+  'split-photodiode': {
     /** |s| at or above this is off the split: flagged saturated */
     saturation: z.number('must be a number').gt(0, 'must be > 0').lt(1, 'must be < 1').default(0.98),
-  }),
-  z.strictObject({
-    kind: z.literal('psd'),
-    lever_arm_m: pos(),
-    half_length_m: pos(),
+  },
+  psd: {
     saturation: z.number('must be a number').gt(0, 'must be > 0').lte(1, 'must be ≤ 1').default(0.98),
-  }),
-], { error: 'must be one of angle, encoder, split-photodiode, psd' });
+  },
+});
 
 const analysisSchema = z.strictObject({
   window_periods: pos().default(4),
@@ -114,7 +77,7 @@ const webhookSchema = z.strictObject({
   timeout_s: pos().default(5),
   retries: z.number('must be a number').int('must be an integer').nonnegative('must be ≥ 0').default(1000),
   max_delay_s: pos().default(300),
-  queue_max: z.number('must be a number').int('must be an integer').positive('must be > 0').default(10000),
+  queue_max: positiveInt().default(10000),
 });
 
 const commandSchema = z.strictObject({
@@ -142,37 +105,29 @@ export const stationSchema = z.strictObject({
   fibre: fibreSchema,
   pendulum: pendulumSchema.prefault({}),
   input: inputSchema.prefault({}),
-  sensor: sensorSchema.default({ kind: 'angle' }),
+  sensor: sensor.default({ kind: 'angle' }),
   analysis: analysisSchema.prefault({}),
   alerts: alertsSchema.prefault({}),
 });
 
 export type Station = z.output<typeof stationSchema>;
 export type SensorConfig = Station['sensor'];
-export type InputConfig = Station['input'];
 export type AnalysisConfig = Station['analysis'];
 export type AlertsConfig = Station['alerts'];
-export type FibreConfig = Station['fibre'];
-export type PendulumConfig = Station['pendulum'];
 
 /** A station file that cannot be used: the message names the field (`fibre.diameter_m: must be > 0`). */
-export class StationError extends Error {
-  constructor(message: string, readonly field: string) {
-    super(message);
+export class StationError extends ConfigError {
+  constructor(message: string, field: string) {
+    super(message, field);
     this.name = 'StationError';
   }
 }
+const stationError = (m: string, f: string) => new StationError(m, f);
 
 /** Validate a parsed JSON value as a station; throws StationError naming the first bad field. */
 export function parseStation(value: unknown, source = 'station'): Station {
-  const r = stationSchema.safeParse(value);
-  if (!r.success) {
-    const f = firstIssue(r.error, value);
-    throw new StationError(`${source}: ${f.text}`, f.field);
-  }
-  return crossCheck(r.data, source);
+  return crossCheck(validateConfig(stationSchema, value, source, stationError), source);
 }
-
 
 /** Rules that span fields. */
 function crossCheck(s: Station, source: string): Station {
@@ -206,19 +161,7 @@ function crossCheck(s: Station, source: string): Station {
 
 /** Read and validate a station file; JSON syntax errors also name the file and position. */
 export function loadStation(path: string): Station {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (e) {
-    throw new StationError(`${path}: cannot read station file (${(e as NodeJS.ErrnoException).code ?? e})`, '');
-  }
-  let json: unknown;
-  try {
-    json = JSON.parse(text);
-  } catch (e) {
-    throw new StationError(`${path}: not valid JSON (${(e as Error).message})`, '');
-  }
-  return parseStation(json, path);
+  return parseStation(readJsonFile(path, 'station file', stationError), path);
 }
 
 /** Station defaults for a bare recording with only a column list (`fit --columns`). */

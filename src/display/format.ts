@@ -36,12 +36,6 @@ export function fmt(v: number | null | undefined, sig = 4): string {
   return v.toExponential(sig - 1);
 }
 
-/** ISO 8601 UTC from epoch ms, to the second (display). */
-export function isoSeconds(ms: number | null | undefined): string {
-  if (ms === null || ms === undefined || !Number.isFinite(ms)) return '—';
-  return new Date(ms).toISOString().replace(/\.\d{3}Z$/, 'Z');
-}
-
 /** An ISO 8601 UTC string shortened to the second for display (`2026-03-01T10:00:00Z`); `missing` when absent. */
 export function isoShort(iso: string | null | undefined, missing = '—'): string {
   if (!iso) return missing;

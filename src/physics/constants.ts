@@ -8,6 +8,3 @@ export const K_BOLTZMANN = 1.380649e-23;
 
 /** Standard acceleration of gravity g_n, m/s² (exact by definition). */
 export const G_STANDARD = 9.80665;
-
-/** Newtonian constant of gravitation, m³ kg⁻¹ s⁻² (CODATA 2018, u = 1.5e-15). */
-export const G_NEWTON = 6.6743e-11;

@@ -10,8 +10,8 @@ import { readSamples } from '../../db/sample-reader.js';
 import { buildSummary } from '../summaries/show-summary.js';
 import { withSigma, fmt, isoShort } from '../display/format.js';
 import { plotSvg } from './svg-plot.js';
+import { escapeHtml as esc } from '../display/escape-html.js';
 
-const esc = (s: string) => s.replace(/[&<>"]/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[c]!);
 
 /** Build the report's HTML text for a run. */
 export function renderReport(db: Database.Database, runId: number): string {

@@ -1,4 +1,5 @@
 /** A small, dependency-free SVG line/point plot for the self-contained report. */
+import { escapeHtml as esc } from '../display/escape-html.js';
 
 export interface Series {
   x: ArrayLike<number>;
@@ -22,7 +23,6 @@ export interface PlotOptions {
   markers?: { x: number; label: string; colour?: string }[];
 }
 
-const esc = (s: string) => s.replace(/[&<>"]/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[c]!);
 
 /** "Nice" tick positions covering [lo, hi]. */
 export function ticks(lo: number, hi: number, n = 5): number[] {

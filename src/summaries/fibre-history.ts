@@ -6,30 +6,19 @@
 import type Database from 'better-sqlite3';
 import { fibreRuns } from '../../db/fibres.js';
 import { iterateWindows } from '../../db/windows-store.js';
-import { summariseWindows } from '../analysis/run-summary.js';
+import { summariseWindows, type RunSummaryNumbers } from '../analysis/run-summary.js';
 import { overlapOf } from './show-summary.js';
 
-/** One run of a fibre, summarised from its 'ok' windows (SI units). */
-export interface FibreHistoryRow {
+/** One run of a fibre, summarised from its 'ok' windows as `show` does (SI units). */
+export interface FibreHistoryRow extends Pick<RunSummaryNumbers,
+  'windows' | 'windows_ok' | 'period_s' | 'period_sigma_s' | 'q' | 'kappa_Nm_per_rad' | 'kappa_sigma_Nm_per_rad'
+  | 'shear_modulus_Pa' | 'shear_modulus_sigma_Pa' | 'equilibrium_rate_rad_per_s' | 'equilibrium_rate_sigma_rad_per_s' | 'temp_C'> {
   run: number;
   station: string;
   started_at: string;
   ended_at: string | null;
   status: string;
   samples: number;
-  windows: number;
-  windows_ok: number;
-  period_s: number | null;
-  period_sigma_s: number | null;
-  q: number | null;
-  kappa_Nm_per_rad: number | null;
-  kappa_sigma_Nm_per_rad: number | null;
-  shear_modulus_Pa: number | null;
-  shear_modulus_sigma_Pa: number | null;
-  /** equilibrium creep: weighted slope of equilibrium_rad against t_mid_s (as `show`) */
-  equilibrium_rate_rad_per_s: number | null;
-  equilibrium_rate_sigma_rad_per_s: number | null;
-  temp_C: number | null;
   /** κ moved beyond its uncertainty since the previous run with a κ; null when either has none */
   kappa_moved: boolean | null;
 }

@@ -1,25 +1,22 @@
 import { createRequire } from 'node:module';
 import { describe, expect, it } from 'vitest';
+import { rng } from '../helpers/blocks.js';
 import {
-  BIQUAD_STRIDE, BiquadCascade, biquadDcGain, biquadGroupDelayDc, biquadResponse, biquadSupport, butterworthLowpass,
+  BIQUAD_STRIDE, BiquadCascade, biquadGroupDelayDc, biquadResponse, biquadSupport, butterworthLowpass,
 } from '../../src/analysis/biquad.js';
+
+/** Gain of a packed biquad cascade at DC: Π (b0 + b1 + b2)/(1 + a1 + a2). */
+function biquadDcGain(sections: Float64Array): number {
+  let g = 1;
+  for (let o = 0; o < sections.length; o += BIQUAD_STRIDE) g *= (sections[o] + sections[o + 1] + sections[o + 2]) / (1 + sections[o + 3] + sections[o + 4]);
+  return g;
+}
 
 // fili (npm, MIT) ships no types: load it through require so it is typed `any`.
 const require = createRequire(import.meta.url);
 // eslint-disable-next-line @typescript-eslint/no-explicit-any
 const Fili: any = require('fili');
 
-/** Seeded uniform numbers in [0, 1) (mulberry32). */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /**
  * Magnitude of an order-n digital Butterworth low-pass designed by the

@@ -1,24 +1,15 @@
 import { describe, expect, it } from 'vitest';
-import { cusumInit, cusumOptions, cusumSeries, cusumStatistic, cusumStep, siegmundArl0 } from '../../src/analysis/cusum.js';
+import { cusumInit, cusumOptions, cusumStatistic, cusumStep } from '../../src/analysis/cusum.js';
+import { normals } from '../helpers/blocks.js';
+import { cusumSeries, siegmundArl0 } from '../helpers/cusum-series.js';
 
-function rng(seed: number) {
-  let a = seed >>> 0;
-  const u = () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-  return () => Math.sqrt(-2 * Math.log(u() || 1e-300)) * Math.cos(2 * Math.PI * u());
-}
 
 const DELTA = 300e-6;
 const SIG = 1e-5;
 
 /** relative period residuals of 4-period windows stepping 1 period around a step at window `at` with phase f in [0, 1) */
 function stepSeries(n: number, at: number, stepRel: number, f: number, seed: number) {
-  const g = rng(seed);
+  const g = normals(seed);
   const r = new Float64Array(n);
   for (let i = 0; i < n; i++) {
     // window i spans [i, i + 4) in periods; the step happens at at + 3 + f periods, so window `at` is the first to contain it
@@ -67,7 +58,7 @@ describe('two-sided CUSUM (Page 1954)', () => {
   });
 
   it('no false alarm over a week of quiet windows with realistic σ; falls back below 0.7 h soon after a step ends', () => {
-    const g = rng(5);
+    const g = normals(5);
     const n = 7 * 1440;
     const r = Float64Array.from({ length: n }, () => SIG * g());
     expect(cusumSeries(r, new Float64Array(n).fill(SIG), DELTA).firstAlarm).toBe(-1);

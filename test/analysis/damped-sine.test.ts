@@ -2,14 +2,14 @@ import { describe, expect, it } from 'vitest';
 import { fitDampedSine, noiseFromDifferences, DAMPED_SINE_PARAMS } from '../../src/analysis/damped-sine.js';
 import { FIT_STATUS } from '../../src/analysis/fit-status.js';
 import { fitLM } from '../../src/analysis/lm.js';
-import { gaussianRng } from '../../src/analysis/gaussian-rng.js';
+import { Rng } from '../../src/analysis/rng.js';
 
 interface Sim { eq: number; d: number; A: number; phi: number; T: number; tau: number }
 const base: Sim = { eq: 0.0123, d: 2e-8, A: 1.5e-3, phi: 0.9, T: 60, tau: 60 * 800 / Math.PI };
 
 /** synthetic window: scenario of our own, the model of CONTRACT.md plus white noise */
 function simulate(p: Sim, n: number, periods: number, sigma: number, seed = 1, t0 = 1000) {
-  const rng = gaussianRng(seed);
+  const rng = new Rng(seed);
   const dt = (p.T * periods) / n;
   const t = new Float64Array(n), y = new Float64Array(n);
   const tMid = t0 + 0.5 * (n - 1) * dt;
@@ -131,7 +131,8 @@ describe('fitDampedSine', () => {
     expect(f.noise_source).toBe('differences');
     expect(f.chi2_red!).toBeGreaterThan(0.9);
     expect(f.chi2_red!).toBeLessThan(1.1);
-    expect(noiseFromDifferences(y) / 3e-5).toBeCloseTo(1, 1);
+    // the difference estimate of σ scatters by about 2.6 % at N = 2400 (200 seeds): allow 3 SD
+    expect(Math.abs(noiseFromDifferences(y) / 3e-5 - 1)).toBeLessThan(0.08);
     const g = fitDampedSine(t, y, { noiseSigma: 3e-5 });
     expect(g.noise_source).toBe('given');
     expect(g.chi2_red!).toBeGreaterThan(0.9);
@@ -155,7 +156,7 @@ describe('fitDampedSine', () => {
     check(fitDampedSine(t.subarray(0, 10), y.subarray(0, 10)), FIT_STATUS.tooFewSamples);
     check(fitDampedSine(t, y.subarray(1)), FIT_STATUS.badInput);
     check(fitDampedSine(t.subarray(0, 120), y.subarray(0, 120), { seed: { period_s: 60, amplitude: 1e-3, phase_rad: 0, equilibrium: 0 } }), FIT_STATUS.tooFewPeriods);
-    const rng = gaussianRng(3);
+    const rng = new Rng(3);
     const noise = Float64Array.from(t, () => 1e-5 * rng.normal());
     check(fitDampedSine(t, noise), FIT_STATUS.noOscillation);
     // a faint tone the seed is forced onto: amplitude not significant

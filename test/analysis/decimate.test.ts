@@ -3,19 +3,9 @@ import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE } from '../../
 import { biquadResponse } from '../../src/analysis/biquad.js';
 import { Decimator, chooseDecimationFactor, medianInterval } from '../../src/analysis/decimate.js';
 import { fitDampedSine } from '../../src/analysis/damped-sine.js';
-import { gaussianRng } from '../../src/analysis/gaussian-rng.js';
+import { Rng } from '../../src/analysis/rng.js';
+import { rng } from '../helpers/blocks.js';
 
-/** Seeded uniform numbers in [0, 1) (mulberry32). */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** Least-squares c + a·cos(ωt) + b·sin(ωt) over the samples with ok[i]; returns amplitude and phase (of cos(ωt + φ)). */
 function fitTone(t: Float64Array, y: Float64Array, ok: (i: number) => boolean, f: number): { amp: number; phase: number; offset: number } {
@@ -179,7 +169,7 @@ describe('Decimator', () => {
     // a swing in white readout noise, decimated to 40 samples per period, 4-period windows:
     // the fit's own σ, scaled, must match the scatter over independent realisations
     const fs = 20, T = 60, M = 30, N = 20 * 480;
-    const rng = gaussianRng(11);
+    const rng = new Rng(11);
     const per: number[] = [], sig: number[] = [];
     const dec0 = new Decimator({ factor: M, sampleInterval_s: 1 / fs });
     const k = dec0.whiteNoiseSigmaFactor();

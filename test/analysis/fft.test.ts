@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { nextPow2, realSpectrumPower } from '../../src/analysis/fft.js';
-import { gaussianRng } from '../../src/analysis/gaussian-rng.js';
+import { Rng } from '../../src/analysis/rng.js';
 
 /** naive O(N²) DFT power of x zero-padded to n, bins 0..n/2 (the definition, e^(−i2πkm/n)) */
 function naivePower(x: Float64Array, n: number): Float64Array {
@@ -18,7 +18,7 @@ function naivePower(x: Float64Array, n: number): Float64Array {
 
 describe('realSpectrumPower', () => {
   it('matches a naive DFT, with and without zero padding, for several sizes', () => {
-    const rng = gaussianRng(42);
+    const rng = new Rng(42);
     for (const [len, n] of [[64, 64], [50, 64], [300, 1024], [2, 2], [1000, 4096]] as const) {
       const x = rng.fillNormal(new Float64Array(len));
       const got = realSpectrumPower(x, n);

@@ -1,18 +1,9 @@
 import { median, medianAbsoluteDeviation } from 'simple-statistics';
 import { describe, expect, it } from 'vitest';
-import { HAMPEL_CLEAN, HAMPEL_PENDING, HAMPEL_SPIKE, HampelDetector, hampelSpikes } from '../../src/analysis/hampel.js';
+import { HAMPEL_CLEAN, HAMPEL_PENDING, HAMPEL_SPIKE, HampelDetector } from '../../src/analysis/hampel.js';
+import { rng } from '../helpers/blocks.js';
+import { hampelSpikes } from '../helpers/hampel-batch.js';
 
-/** Seeded uniform numbers in [0, 1) (mulberry32). */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /**
  * Reference Hampel (definition: Pearson 2002, "Outliers in process modeling and

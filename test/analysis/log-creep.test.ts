@@ -1,23 +1,13 @@
 import { describe, expect, it } from 'vitest';
 import { levenbergMarquardt } from 'ml-levenberg-marquardt';
 import { creepAngle, creepRate, fitLogCreep, forecastSettle } from '../../src/analysis/log-creep.js';
+import { normals } from '../helpers/blocks.js';
 
-function rng(seed: number) {
-  let a = seed >>> 0;
-  const u = () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-  return () => Math.sqrt(-2 * Math.log(u() || 1e-300)) * Math.cos(2 * Math.PI * u());
-}
 
 // synthetic creep: θ∞ = 1e-3 rad, a = 2e-5 rad, t_c = 3000 s, one window a minute for 8 h, σ = 1e-7 rad
 const TRUE = { th: 1e-3, a: 2e-5, tc: 3000, t0: 1000 };
 function series(seed: number, sigma = 1e-7, hours = 8) {
-  const n = rng(seed);
+  const n = normals(seed);
   const t: number[] = [];
   const y: number[] = [];
   for (let s = TRUE.t0; s <= TRUE.t0 + hours * 3600; s += 60) {
@@ -101,7 +91,7 @@ describe('forecastSettle', () => {
   });
 
   it('flags a non-significant creep and a far extrapolation as unreliable', () => {
-    const n = rng(4);
+    const n = normals(4);
     const t = Array.from({ length: 120 }, (_, i) => i * 60);
     const flat = fitLogCreep(t, t.map(() => 1e-7 * n()), t.map(() => 1e-7))!;
     expect(forecastSettle(flat, 1e-12).reliable).toBe(false);

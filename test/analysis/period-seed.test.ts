@@ -1,11 +1,11 @@
 import { describe, expect, it } from 'vitest';
-import { gaussianRng } from '../../src/analysis/gaussian-rng.js';
+import { Rng } from '../../src/analysis/rng.js';
 import { nextPow2, realSpectrumPower } from '../../src/analysis/fft.js';
 import { periodSeed } from '../../src/analysis/period-seed.js';
 
 function tone(n: number, dt: number, T: number, opts: { A?: number; phi?: number; eq?: number; d?: number; sigma?: number; seed?: number } = {}) {
   const { A = 1e-3, phi = 0.3, eq = 0.02, d = 0, sigma = 0, seed = 1 } = opts;
-  const rng = gaussianRng(seed);
+  const rng = new Rng(seed);
   const t = Float64Array.from({ length: n }, (_, i) => 500 + i * dt);
   const tMid = 0.5 * (t[0] + t[n - 1]);
   const y = Float64Array.from(t, (v) => eq + d * (v - tMid) + A * Math.cos((2 * Math.PI * (v - tMid)) / T + phi) + sigma * rng.normal());
@@ -74,7 +74,7 @@ describe('periodSeed', () => {
   });
 
   it('fails with a reason on noise, short, non-finite or non-uniform input', () => {
-    const rng = gaussianRng(2);
+    const rng = new Rng(2);
     const t = Float64Array.from({ length: 500 }, (_, i) => i);
     const noise = rng.fillNormal(new Float64Array(500));
     const s = periodSeed(t, noise);

@@ -2,18 +2,12 @@ import { describe, expect, it } from 'vitest';
 import * as ss from 'simple-statistics';
 import erfinv from '@stdlib/math-base-special-erfinv';
 import { normalQuantile, robustTrend } from '../../src/analysis/robust-trend.js';
+import { Rng } from '../../src/analysis/rng.js';
 
-// seeded normal deviates (mulberry32 + Box–Muller)
-function rng(seed: number) {
-  let a = seed >>> 0;
-  const u = () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-  return { u, n: () => Math.sqrt(-2 * Math.log(u() || 1e-300)) * Math.cos(2 * Math.PI * u()) };
+/** Seeded uniform (u) and standard normal (n) deviates from the project's generator. */
+function rng(seed: number): { u: () => number; n: () => number } {
+  const r = new Rng(seed);
+  return { u: () => r.uniform(), n: () => r.normal() };
 }
 
 describe('robustTrend (Theil–Sen, Sen 1968 interval)', () => {

@@ -1,24 +1,25 @@
 import { describe, expect, it } from 'vitest';
 import { linearRegression, sampleStandardDeviation, weightedMean as ssWeightedMean } from 'simple-statistics';
-import { summariseWindows, weightedMean, weightedSlope } from '../../src/analysis/run-summary.js';
+import { summariseWindows } from '../../src/analysis/run-summary.js';
+import { weightedLine, weightedMean } from '../../src/analysis/weighted-stats.js';
 import { emptyResult } from '../../src/analysis/window-analysis.js';
 
 describe('run summary', () => {
   it('weighted mean matches simple-statistics; σ is √overlap/√Σw without excess scatter', () => {
     const v = [1, 1.00001, 0.99999, 1.000005], s = [1e-5, 2e-5, 1e-5, 4e-5];
-    const m = weightedMean(v, s, 4)!;
+    const m = weightedMean(v, s, { overlap: 4 })!;
     expect(m.mean).toBeCloseTo(ssWeightedMean(v, s.map((x) => 1 / (x * x))), 14);
     const sw = s.reduce((a, x) => a + 1 / (x * x), 0);
     expect(m.sigma).toBeCloseTo(Math.sqrt(4 / sw), 14); // scatter within the error bars here
   });
   it('trusts the scatter when it exceeds the error bars (Birge ratio), still inflated for overlap', () => {
     const v = [1, 3, 1, 3, 1, 3], s = v.map(() => 0.1);
-    const m = weightedMean(v, s, 4)!;
+    const m = weightedMean(v, s, { overlap: 4 })!;
     expect(m.sigma).toBeCloseTo((Math.sqrt(4) * sampleStandardDeviation(v)) / Math.sqrt(v.length), 12);
   });
   it('weighted slope with equal σ equals the least-squares line of simple-statistics', () => {
     const x = [0, 1, 2, 3, 4, 5, 6], y = [0.1, 0.32, 0.49, 0.71, 0.9, 1.12, 1.29], s = x.map(() => 1);
-    expect(weightedSlope(x, y, s)!.slope).toBeCloseTo(linearRegression(x.map((xi, i) => [xi, y[i]])).m, 12);
+    expect(weightedLine(x, y, s)!.slope).toBeCloseTo(linearRegression(x.map((xi, i) => [xi, y[i]])).m, 12);
   });
   it('summarises only accepted windows and streams any iterable', () => {
     const ws = [0, 1, 2, 3].map((i) => ({

@@ -1,20 +1,10 @@
 import { describe, expect, it } from 'vitest';
+import { rng } from '../helpers/blocks.js';
 import {
   decodeChunk, decodeTimes, decodeValues, encodeChunk, encodeTimes, encodeValues,
   DEFLATED_FLAGS, DEFLATED_VALUE, shuffleBytes, unshuffleBytes,
 } from '../../db/codec.js';
 
-/** mulberry32: small seeded PRNG so the random cases are reproducible. */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** A Buffer whose byteOffset is odd, as SQLite may hand back: decoding must honour byteOffset. */
 function misaligned(b: Buffer): Buffer {

@@ -8,6 +8,7 @@ import { createRun } from '../../db/runs.js';
 import { SampleWriter } from '../../db/sample-writer.js';
 import { iterateChunks, listChannels, readSamples } from '../../db/sample-reader.js';
 import { FLAG_AFTER_GAP, FLAG_SATURATED } from '../../src/domain/block.js';
+import { rng } from '../helpers/blocks.js';
 
 const dirs: string[] = [];
 function tmpFile(): string {
@@ -19,16 +20,6 @@ afterEach(() => {
   for (const d of dirs.splice(0)) rmSync(d, { recursive: true, force: true });
 });
 
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 function newRun(db: Database): number {
   return createRun(db, { station: 'bench-a', fibre: { name: 'W25-03' }, startedAt_ms: Date.UTC(2026, 1, 1), source: 'simulator' });

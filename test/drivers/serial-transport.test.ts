@@ -8,19 +8,10 @@ import type { Incident } from '../../src/domain/events.js';
 import { SerialPort } from 'serialport';
 import { SerialSupervisor, type DownInfo, type UpInfo } from '../../drivers/serial-transport.js';
 import { startPtyPair, waitFor, writerLine, writerProcess, type PtyPair } from '../helpers/pty.js';
+import { rng } from '../helpers/blocks.js';
 
 const clock = () => performance.timeOrigin + performance.now(); // same base as the supervisor's default
 
-/** Deterministic jitter for the backoff (mulberry32). */
-function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = Math.imul(a ^ (a >>> 15), a | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 function record(sup: SerialSupervisor) {
   const r = {
@@ -99,7 +90,7 @@ async function pair(): Promise<PtyPair> {
 }
 
 function supervisor(opts: Partial<ConstructorParameters<typeof SerialSupervisor>[0]> = {}): SerialSupervisor {
-  const sup = new SerialSupervisor({ path: join(dir, 'dev'), baud: 115200, random: seeded(7), ...opts });
+  const sup = new SerialSupervisor({ path: join(dir, 'dev'), baud: 115200, random: rng(7), ...opts });
   cleanups.push(() => sup.stop());
   return sup;
 }

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { propagator, Balance } from '../../drivers/simulator/balance.js';
-import { Rng } from '../../drivers/simulator/rng.js';
+import { Rng } from '../../src/analysis/rng.js';
 import { parseScenario } from '../../drivers/simulator/scenario.js';
-import { simulateToArrays } from '../../drivers/simulator/simulate.js';
+import { simulateToArrays } from '../helpers/simulate-arrays.js';
 import { K_BOLTZMANN } from '../../src/physics/constants.js';
 import { thermalAngleRms } from '../../src/physics/thermal.js';
 import { kappaFromPeriod } from '../../src/physics/torsion.js';

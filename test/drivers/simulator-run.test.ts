@@ -11,8 +11,8 @@ import { makeDecoder } from '../../drivers/make-decoder.js';
 import { makeConverter } from '../../drivers/sensor.js';
 import { runSimulator } from '../../drivers/simulator/run-simulator.js';
 import { loadScenario, parseScenario } from '../../drivers/simulator/scenario.js';
-import { simulateToArrays } from '../../drivers/simulator/simulate.js';
-import { stationForScenario } from '../../drivers/simulator/station-for-scenario.js';
+import { simulateToArrays } from '../helpers/simulate-arrays.js';
+import { stationForScenario } from '../helpers/station-for-scenario.js';
 import { FLAG_SATURATED } from '../../src/domain/block.js';
 
 const scenarios = new URL('../../drivers/simulator/scenarios/', import.meta.url).pathname;

@@ -78,7 +78,7 @@ describe('scenario files', () => {
 
 describe('station for a scenario', () => {
   it('every shipped scenario yields a valid station that matches its output and sensor', async () => {
-    const { stationForScenario } = await import('../../drivers/simulator/station-for-scenario.js');
+    const { stationForScenario } = await import('../helpers/station-for-scenario.js');
     for (const f of readdirSync(dir).filter((x) => x.endsWith('.json'))) {
       const sc = loadScenario(new URL(f, dir).pathname);
       const st = stationForScenario(sc, { device: '/dev/null' });

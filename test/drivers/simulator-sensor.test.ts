@@ -1,6 +1,6 @@
 import erfRef from '@stdlib/math-base-special-erf';
 import { describe, expect, it } from 'vitest';
-import { Rng } from '../../drivers/simulator/rng.js';
+import { Rng } from '../../src/analysis/rng.js';
 import { parseScenario } from '../../drivers/simulator/scenario.js';
 import { encoderCount, sensorChannels, wrapSigned } from '../../drivers/simulator/sensor-model.js';
 import { Unwrapper } from '../../drivers/unwrap.js';

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { Unwrapper, unwrapBlock } from '../../drivers/unwrap.js';
+import { Unwrapper } from '../../drivers/unwrap.js';
 
 function lcg(seed: number): () => number {
   let s = seed >>> 0;
@@ -53,15 +53,3 @@ describe('Unwrapper', () => {
   });
 });
 
-describe('unwrapBlock', () => {
-  it('unwraps in place across blocks and passes NaN through', () => {
-    const u = new Unwrapper(256);
-    const a = Float64Array.from([250, 255, 3, NaN, 10, 200, 100]);
-    unwrapBlock(u, a, a);
-    expect(Array.from(a)).toEqual([250, 255, 259, NaN, 266, 200, 100]);
-    const b = Float64Array.from([20, 240]);
-    const out = new Float64Array(2);
-    unwrapBlock(u, b, out);
-    expect(Array.from(out)).toEqual([20, -16]);
-  });
-});

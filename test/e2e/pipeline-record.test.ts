@@ -10,7 +10,7 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parseScenario } from '../../drivers/simulator/scenario.js';
-import { stationForScenario } from '../../drivers/simulator/station-for-scenario.js';
+import { stationForScenario } from '../helpers/station-for-scenario.js';
 import { lookupMaterial } from '../../src/physics/materials.js';
 import { startPtyPair, waitFor, type PtyPair } from '../../drivers/pty-pair.js';
 import { runCli, startCli } from '../helpers/cli.js';

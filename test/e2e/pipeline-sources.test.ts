@@ -11,7 +11,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parseScenario } from '../../drivers/simulator/scenario.js';
 import { runSimulator } from '../../drivers/simulator/run-simulator.js';
-import { stationForScenario } from '../../drivers/simulator/station-for-scenario.js';
+import { stationForScenario } from '../helpers/station-for-scenario.js';
 import { openStore } from '../../db/open.js';
 import { parseStation, type Station } from '../../src/config/station.js';
 import { RunSession } from '../../src/app/run-session.js';

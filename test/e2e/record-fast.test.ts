@@ -10,7 +10,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { parseScenario } from '../../drivers/simulator/scenario.js';
-import { stationForScenario } from '../../drivers/simulator/station-for-scenario.js';
+import { stationForScenario } from '../helpers/station-for-scenario.js';
 import { startPtyPair, waitFor, type PtyPair } from '../../drivers/pty-pair.js';
 import { startCli } from '../helpers/cli.js';
 import { samplesIn } from '../helpers/store.js';

@@ -1,16 +1,17 @@
 /** Small builders shared by the pipeline tests: seeded numbers and arrays cut into blocks. */
 import type { AngleBlock } from '../../src/domain/block.js';
+import { Rng } from '../../src/analysis/rng.js';
 
-/** Seeded uniform numbers in [0, 1) (mulberry32). */
+/** Seeded uniform numbers in [0, 1), from the project's one generator (src/analysis/rng.ts). */
 export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
+  const r = new Rng(seed);
+  return () => r.uniform();
+}
+
+/** Seeded standard normal deviates, from the same generator. */
+export function normals(seed: number): () => number {
+  const r = new Rng(seed);
+  return () => r.normal();
 }
 
 /** Cut arrays into blocks of the given sizes (the last size repeats); host_ms = hostBase + first index. */

@@ -1,26 +1,18 @@
 /** `fibrewatch simulate --scenario F --device PATH|-`: the virtual balance on a device path or stdout. */
-import { loadScenario, ScenarioError } from '../../../drivers/simulator/scenario.js';
+import { loadScenario } from '../../../drivers/simulator/scenario.js';
 import { runSimulator } from '../../../drivers/simulator/run-simulator.js';
-import { UsageError } from '../../domain/errors.js';
+import { abortOnSignals } from '../../../drivers/simulator/abort-on-signals.js';
 
 export async function simulateCommand(opts: { scenario: string; device: string; format?: 'lines' | 'frames'; speed: number; seed: number; duration?: number }): Promise<void> {
-  let scenario;
-  try {
-    scenario = loadScenario(opts.scenario);
-  } catch (e) {
-    if (e instanceof ScenarioError) throw new UsageError(e.message);
-    throw e;
-  }
-  const ac = new AbortController();
-  const stop = () => ac.abort();
-  process.once('SIGINT', stop);
-  process.once('SIGTERM', stop);
+  // a bad scenario file is a ConfigError: exit 2 naming the field
+  const scenario = loadScenario(opts.scenario);
+  const stop = abortOnSignals();
   const toStdout = opts.device === '-';
   const started = Date.now();
   let lastLog = 0;
   try {
     const r = await runSimulator({
-      scenario, out: opts.device, format: opts.format, speed: opts.speed, seed: opts.seed, duration_s: opts.duration, signal: ac.signal,
+      scenario, out: opts.device, format: opts.format, speed: opts.speed, seed: opts.seed, duration_s: opts.duration, signal: stop.signal,
       onProgress: (p) => {
         // progress on stderr, at most every 2 s, and only where a person is watching
         if (!process.stderr.isTTY || Date.now() - lastLog < 2000) return;
@@ -29,10 +21,9 @@ export async function simulateCommand(opts: { scenario: string; device: string; 
       },
     });
     if (!toStdout || process.stderr.isTTY) {
-      process.stderr.write(`simulate: wrote ${r.samples} samples (${r.bytes} bytes) in ${((Date.now() - started) / 1000).toFixed(1)} s${ac.signal.aborted ? ' (stopped)' : ''}\n`);
+      process.stderr.write(`simulate: wrote ${r.samples} samples (${r.bytes} bytes) in ${((Date.now() - started) / 1000).toFixed(1)} s${stop.signal.aborted ? ' (stopped)' : ''}\n`);
     }
   } finally {
-    process.off('SIGINT', stop);
-    process.off('SIGTERM', stop);
+    stop.dispose();
   }
 }

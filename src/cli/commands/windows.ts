@@ -1,5 +1,5 @@
 /** `fibrewatch windows RUN [--json|--csv]`: per-window fit results. */
-import type { WindowResult } from '../../domain/window-result.js';
+import { WINDOW_FIELDS, type WindowResult } from '../../domain/window-result.js';
 import { getRun } from '../../../db/runs.js';
 import { listWindows } from '../../../db/windows-store.js';
 import { RuntimeError, UsageError } from '../../domain/errors.js';
@@ -7,12 +7,7 @@ import { csv, table, withSigma, fmt } from '../../display/format.js';
 import { withQueryStore } from '../store.js';
 
 /** Columns of a window row, in order (used for the CSV header when a run has no windows yet). */
-export const WINDOW_COLUMNS = [
-  'index', 't_start_s', 't_mid_s', 't_end_s', 'samples', 'status', 'period_s', 'period_sigma_s', 'decay_time_s', 'decay_time_sigma_s',
-  'q', 'q_sigma', 'amplitude_rad', 'amplitude_sigma_rad', 'equilibrium_rad', 'equilibrium_sigma_rad', 'drift_rad_per_s',
-  'drift_sigma_rad_per_s', 'phase_rad', 'residual_rms_rad', 'chi2_red', 'kappa_Nm_per_rad', 'kappa_sigma_Nm_per_rad',
-  'shear_modulus_Pa', 'shear_modulus_sigma_Pa', 'temp_C', 't_mid',
-];
+export const WINDOW_COLUMNS: string[] = [...WINDOW_FIELDS, 't_mid'];
 
 /** Window rows as CONTRACT.md lists them: the fit fields plus `t_mid` (ISO) and `status`. */
 export function windowRows(ws: WindowResult[], startedAt_ms: number): Record<string, unknown>[] {

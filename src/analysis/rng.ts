@@ -1,6 +1,7 @@
 /**
- * A small seeded random-number generator for the simulator, so a scenario
- * with a seed gives the same samples on every run and machine.
+ * The project's one seeded random-number generator (simulator, tests,
+ * benchmarks): a scenario or a test with a seed gives the same numbers on
+ * every run and machine.
  * xoshiro128** (Blackman & Vigna, 2018) on 32-bit integer arithmetic, seeded
  * through SplitMix32; normals by the polar Box–Muller (Marsaglia) method.
  */

@@ -5,7 +5,8 @@
  */
 import { parseStation, type Station } from '../../src/config/station.js';
 import { periodFromKappa } from '../../src/physics/torsion.js';
-import type { Scenario } from './scenario.js';
+import type { Scenario } from '../../drivers/simulator/scenario.js';
+import { framesChannels, linesColumns } from '../../drivers/simulator/run-simulator.js';
 
 /** Options of stationForScenario. */
 export interface StationForScenarioOptions {
@@ -28,16 +29,8 @@ export function stationForScenario(sc: Scenario, opts: StationForScenarioOptions
     : s.kind === 'encoder' ? drop({ kind: 'encoder', counts_per_rev: s.counts_per_rev, counter_bits: s.counter_bits })
     : s.kind === 'split-photodiode' ? { kind: 'split-photodiode', lever_arm_m: s.lever_arm_m, beam_radius_m: s.beam_radius_m }
     : { kind: 'psd', lever_arm_m: s.lever_arm_m, half_length_m: s.half_length_m };
-  let input: Record<string, unknown>;
-  if (format === sc.output.format) {
-    input = format === 'lines' ? { format, columns: sc.output.columns } : { format, channels: sc.output.channels };
-  } else if (format === 'lines') {
-    input = { format, columns: ['t_s', ...sc.output.channels.map((c) => c.role)] };
-  } else {
-    // same defaults as runSimulator uses when switching lines → frames
-    const scale: Partial<Record<string, number>> = { angle_rad: 1e-9, x_m: 1e-9, temp_C: 1e-4, a: 1e-6, b: 1e-6 };
-    input = { format, channels: sc.output.columns.filter((c) => !['t_s', 't_ms', 't_us'].includes(c)).map((role) => ({ role, scale: scale[role] ?? 1 })) };
-  }
+  // the layout runSimulator writes in that format
+  const input: Record<string, unknown> = format === 'lines' ? { format, columns: linesColumns(sc) } : { format, channels: framesChannels(sc) };
   if (opts.device) input.device = opts.device;
   const f = sc.fibre;
   return parseStation({

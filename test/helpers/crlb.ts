@@ -1,8 +1,8 @@
 /**
- * Noise limits of the damped-sine fit: the Cramér–Rao bound from the inverse
+ * Test reference: noise limits of the damped-sine fit — the Cramér–Rao bound from the inverse
  * Fisher matrix, and the classic closed-form frequency bound for a tone.
  */
-import { spdInverse } from './linalg.js';
+import { spdInverse } from '../../src/analysis/linalg.js';
 
 /** True parameters of θ_eq + d·(t − t_mid) + A·e^(−(t − t_mid)/τ)·cos(2π(t − t_mid)/T + φ). */
 export interface DampedSineTruth {
