@@ -17,7 +17,7 @@ export interface EventRow {
   data?: Record<string, unknown> | null;
 }
 
-/** An event as CONTRACT.md's `events --json` gives it. */
+/** An event as docs/commands.md's `events --json` gives it. */
 export interface EventListing {
   t: string;
   t_s: number;

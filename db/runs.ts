@@ -34,7 +34,7 @@ export interface NewRun {
   meta?: object;
 }
 
-/** A run's row in the shape of CONTRACT.md's `runs` JSON. */
+/** A run's row in the shape of docs/commands.md's `runs` JSON. */
 export interface RunListing {
   run: number;
   station: string;

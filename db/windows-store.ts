@@ -1,5 +1,5 @@
 /**
- * Per-window fit results of a run (src/config/results.ts WindowResult, one row each).
+ * Per-window fit results of a run (src/domain/window-result.ts WindowResult, one row each).
  */
 import type { Database } from 'better-sqlite3';
 import { WINDOW_FIELDS, type WindowResult } from '../src/domain/window-result.js';

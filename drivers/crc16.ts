@@ -1,6 +1,6 @@
 /**
  * CRC-16/CCITT-FALSE (poly 0x1021, init 0xFFFF, no reflection, no final xor),
- * the checksum of a `frames` record (WIRE.md). Table-driven: two bytes per
+ * the checksum of a `frames` record (docs/wire.md). Table-driven: two bytes per
  * step through a 65536-entry table built from the one-byte table, then one
  * byte for an odd length.
  */

@@ -1,5 +1,5 @@
 /**
- * What every wire decoder offers (WIRE.md): bytes in, blocks and incidents out.
+ * What every wire decoder offers (docs/wire.md): bytes in, blocks and incidents out.
  */
 import type { RawBlock } from '../src/domain/block.js';
 import type { Incident } from '../src/domain/events.js';

@@ -1,5 +1,5 @@
 /**
- * Decoder of the `frames` wire format (WIRE.md §2): little-endian binary
+ * Decoder of the `frames` wire format (docs/wire.md, "frames"): little-endian binary
  * records `A7 3C | version 1 | n | seq u16 | µs u32 | n × i32 | CRC-16`.
  * Works over DataView and typed arrays; no object per frame.
  */

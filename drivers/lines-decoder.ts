@@ -1,5 +1,5 @@
 /**
- * Decoder of the `lines` wire format (WIRE.md §1): text records ending in LF
+ * Decoder of the `lines` wire format (docs/wire.md, "lines"): text records ending in LF
  * or CRLF, `#` comments, `# columns:` declarations, one reading per line.
  * Parses the bytes directly (no string per line or field on the hot path).
  */
@@ -180,8 +180,7 @@ export class LinesDecoder implements Decoder {
   private lineFast(buf: Uint8Array, s: number, len: number): number {
     const L = this.layout;
     if (L === null || this.dropFirst) return OTHER;
-    if (this.n === this.cap) this.newBlock();
-    const n = this.n;
+    const n = this.slot();
     const kind = L.kind;
     const ncol = kind.length;
     const chans = this.chans;
@@ -347,8 +346,7 @@ export class LinesDecoder implements Decoder {
       this.bad(buf, s, e, 'no columns declared (station file or "# columns:" line)');
       return;
     }
-    if (this.n === this.cap) this.newBlock();
-    const n = this.n;
+    const n = this.slot();
     const kind = L.kind;
     const ncol = kind.length;
     const chans = this.chans;
@@ -422,6 +420,12 @@ export class LinesDecoder implements Decoder {
     }
     if (e > end) snippet += '…';
     this.limiter.report(this.out.incidents, this.host_ms, reason, snippet, this.lineNo, this.lastT);
+  }
+
+  /** Index of the next sample in the current block, starting a new block when it is full. */
+  private slot(): number {
+    if (this.n === this.cap) this.newBlock();
+    return this.n;
   }
 
   private newBlock(): void {

@@ -2,7 +2,7 @@
  * Which serial ports this machine has, found by reading /dev and /sys.
  *
  * serialport's `SerialPort.list()` spawns udevadm, which containers and small
- * images lack (TRAPS.md), so we scan ourselves:
+ * images lack (docs/dependencies.md), so we scan ourselves:
  *  - /dev/serial/by-id/*: udev's stable names (maker, model, serial number);
  *    each link is resolved and attached to the device it points at;
  *  - /dev/ttyUSB*, /dev/ttyACM*, /dev/ttyAMA*: these nodes exist only while

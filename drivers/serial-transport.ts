@@ -1,7 +1,7 @@
 /**
  * A serial connection that survives the device going away and coming back.
  *
- * serialport has no reconnect of its own (TRAPS.md), so `SerialSupervisor`
+ * serialport has no reconnect of its own (docs/dependencies.md), so `SerialSupervisor`
  * owns one `SerialPort` per connection and replaces it after every loss:
  *
  *   opening ──ok──▶ up ──close / error / no-data watchdog──▶ closing
@@ -45,7 +45,7 @@ import { EventEmitter } from 'node:events';
 import { stat } from 'node:fs/promises';
 import { SerialPort } from 'serialport';
 import type { Incident } from '../src/domain/events.js';
-import { nextDelay } from './backoff.js';
+import { nextDelay } from '../src/domain/backoff.js';
 
 /** The part of serialport's `SerialPort` the supervisor uses (so tests or other bindings can stand in). */
 export interface SerialPortLike {
@@ -246,7 +246,7 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
 
   /** Write to the device if it is connected; returns false (and drops the bytes) while it is not. */
   write(data: Buffer): boolean {
-    // serialport holds writes to a closed port forever (TRAPS.md): never hand it one.
+    // serialport holds writes to a closed port forever (docs/dependencies.md): never hand it one.
     if (this.state !== 'up' || !this.port?.isOpen) return false;
     this.port.write(data, () => {});
     return true;

@@ -1,5 +1,5 @@
 /**
- * Writers of the two wire formats (WIRE.md), for the simulator and the tests:
+ * Writers of the two wire formats (docs/wire.md), for the simulator and the tests:
  * what they write, the decoders read back to the same numbers.
  */
 import type { ColumnRole, ValueRole } from '../src/domain/block.js';

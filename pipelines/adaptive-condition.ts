@@ -5,11 +5,12 @@
  * that about `samplesPerPeriod` samples per period remain, and the held blocks
  * and all later ones go through `condition({ factor: M })`.
  */
-import { Observable, Subject } from 'rxjs';
+import { Subject, type Observable, type Subscription } from 'rxjs';
 import { FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../src/domain/block.js';
 import { periodSeed } from '../src/analysis/period-seed.js';
 import { chooseDecimationFactor, Decimator, medianInterval } from '../src/analysis/decimate.js';
 import { condition } from './condition.js';
+import { operate } from './operate.js';
 
 export interface AdaptiveConditionOptions {
   samplesPerPeriod: number;
@@ -63,8 +64,9 @@ function firstInterval(held: AngleBlock[]): number | undefined {
 /** @return an operator from cleaned AngleBlocks to conditioned ones */
 export function adaptiveCondition(opts: AdaptiveConditionOptions): (source: Observable<AngleBlock>) => Observable<AngleBlock> {
   return (source) =>
-    new Observable<AngleBlock>((subscriber) => {
+    operate<AngleBlock, AngleBlock>(source, (out) => {
       let inner: Subject<AngleBlock> | null = null;
+      let innerSub: Subscription | undefined;
       const held: AngleBlock[] = [];
       let heldN = 0;
       let need_s = opts.firstEstimate_s ?? 600;
@@ -75,11 +77,12 @@ export function adaptiveCondition(opts: AdaptiveConditionOptions): (source: Obse
         if (period) opts.onFirstEstimate?.(period, factor);
         opts.onFactor?.(factor, factor > 1 ? new Decimator({ factor, sampleInterval_s: dt }).whiteNoiseSigmaFactor() : 1);
         inner = new Subject<AngleBlock>();
-        inner.pipe(condition({ factor })).subscribe(subscriber);
+        // the inner conditioner's errors come out through the same channel as ours
+        innerSub = inner.pipe(condition({ factor })).subscribe({ next: (b) => out.next(b), error: (e) => out.error(e) });
         for (const b of held) inner.next(b);
         held.length = 0;
       };
-      const sub = source.subscribe({
+      return {
         next(b) {
           if (inner) return inner.next(b);
           held.push(b);
@@ -97,15 +100,14 @@ export function adaptiveCondition(opts: AdaptiveConditionOptions): (source: Obse
           }
           if (heldN >= maxHeld) start(estimatePeriod(held));
         },
-        error: (e) => (inner ? inner.error(e) : subscriber.error(e)),
         complete() {
           if (!inner) start(opts.periodGuess_s ?? estimatePeriod(held));
           inner!.complete();
         },
-      });
-      return () => {
-        sub.unsubscribe();
-        inner?.complete();
+        teardown() {
+          innerSub?.unsubscribe();
+          held.length = 0;
+        },
       };
     });
 }

@@ -1,8 +1,9 @@
-import { Observable } from 'rxjs';
+import type { Observable } from 'rxjs';
 import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../src/domain/block.js';
 import { BlockBuffer } from '../src/analysis/block-buffer.js';
 import { medianInterval } from '../src/analysis/decimate.js';
 import { HAMPEL_PENDING, HAMPEL_SPIKE, HampelDetector, checkHampelOptions } from '../src/analysis/hampel.js';
+import { operate } from './operate.js';
 
 /** Options of `clean`. */
 export interface CleanOptions {
@@ -48,8 +49,8 @@ export function clean(opts: CleanOptions): (source: Observable<AngleBlock>) => O
   if (!Number.isInteger(refN) || refN < 2) throw new RangeError(`referenceSamples: must be an integer ≥ 2 (got ${refN})`);
 
   return (source) =>
-    new Observable<AngleBlock>((subscriber) => {
-      let buf: BlockBuffer | null = new BlockBuffer();
+    operate<AngleBlock, AngleBlock>(source, (out) => {
+      const buf = new BlockBuffer();
       const hampel = new HampelDetector(h);
       const tail = new Uint8Array(h.halfWidth + 1);
       let refDt: number | undefined;
@@ -60,7 +61,7 @@ export function clean(opts: CleanOptions): (source: Observable<AngleBlock>) => O
       let host_ms = 0;
 
       const advance = (final: boolean): void => {
-        const b = buf!;
+        const b = buf;
         if (refDt === undefined) {
           if (b.length < refN && !final) return;
           // no positive interval at all: no gap can be judged by size
@@ -104,37 +105,18 @@ export function clean(opts: CleanOptions): (source: Observable<AngleBlock>) => O
         if (decided > b.start) {
           const c = b.copy(b.start, decided);
           b.dropBefore(decided);
-          subscriber.next({ n: c.t.length, t: c.t, angle: c.y, flags: c.flags, channels: c.channels, clock, host_ms });
+          out.next({ n: c.t.length, t: c.t, angle: c.y, flags: c.flags, channels: c.channels, clock, host_ms });
         }
       };
 
-      const sub = source.subscribe({
+      return {
         next(block) {
-          if (!buf) return;
-          try {
-            clock = block.clock;
-            host_ms = block.host_ms;
-            buf.append(block.t, block.angle, block.flags, block.channels, 0, block.n);
-            advance(false);
-          } catch (e) {
-            subscriber.error(e);
-          }
+          clock = block.clock;
+          host_ms = block.host_ms;
+          buf.append(block.t, block.angle, block.flags, block.channels, 0, block.n);
+          advance(false);
         },
-        error(e) {
-          subscriber.error(e);
-        },
-        complete() {
-          try {
-            if (buf) advance(true);
-            subscriber.complete();
-          } catch (e) {
-            subscriber.error(e);
-          }
-        },
-      });
-      return () => {
-        sub.unsubscribe();
-        buf = null;
+        complete: () => advance(true),
       };
     });
 }

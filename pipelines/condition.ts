@@ -1,7 +1,8 @@
-import { Observable } from 'rxjs';
+import type { Observable } from 'rxjs';
 import { FLAG_INVALID, type AngleBlock } from '../src/domain/block.js';
 import { BlockBuffer } from '../src/analysis/block-buffer.js';
 import { Decimator, medianInterval, type DecimatedSamples } from '../src/analysis/decimate.js';
+import { operate } from './operate.js';
 
 /** Options of `condition`. */
 export interface ConditionOptions {
@@ -45,22 +46,21 @@ export function condition(opts: ConditionOptions): (source: Observable<AngleBloc
   make(opts.sampleInterval_s ?? 1);
 
   return (source) =>
-    new Observable<AngleBlock>((subscriber) => {
+    operate<AngleBlock, AngleBlock>(source, (out) => {
       let dec: Decimator | null = opts.sampleInterval_s !== undefined ? make(opts.sampleInterval_s) : null;
       let pending: BlockBuffer | null = dec ? null : new BlockBuffer();
-      let closed = false;
       let last: { clock: AngleBlock['clock']; host_ms: number } = { clock: 'host', host_ms: 0 };
 
       const emit = (d: DecimatedSamples, channels: Partial<Record<string, Float64Array>>, like: { clock: AngleBlock['clock']; host_ms: number }): void => {
         if (d.n === 0) return;
-        const out: Record<string, Float64Array> = {};
+        const kept: Record<string, Float64Array> = {};
         for (const [name, v] of Object.entries(channels)) {
           if (!v) continue;
           const c = new Float64Array(d.n);
           for (let i = 0; i < d.n; i++) c[i] = v[d.index[i]];
-          out[name] = c;
+          kept[name] = c;
         }
-        subscriber.next({ n: d.n, t: d.t, angle: d.y, flags: d.flags, channels: out, clock: like.clock, host_ms: like.host_ms });
+        out.next({ n: d.n, t: d.t, angle: d.y, flags: d.flags, channels: kept, clock: like.clock, host_ms: like.host_ms });
       };
 
       const drainPending = (like: { clock: AngleBlock['clock']; host_ms: number }, final: boolean): void => {
@@ -73,7 +73,7 @@ export function condition(opts: ConditionOptions): (source: Observable<AngleBloc
           if (p.length > 0) {
             const c = p.copy(p.start, p.end);
             for (let i = 0; i < c.flags.length; i++) c.flags[i] |= FLAG_INVALID;
-            subscriber.next({ n: c.t.length, t: c.t, angle: c.y, flags: c.flags, channels: c.channels, ...like });
+            out.next({ n: c.t.length, t: c.t, angle: c.y, flags: c.flags, channels: c.channels, ...like });
           }
           pending = null;
           return;
@@ -83,38 +83,19 @@ export function condition(opts: ConditionOptions): (source: Observable<AngleBloc
         pending = null;
       };
 
-      const sub = source.subscribe({
+      return {
         next(block) {
-          if (closed) return;
-          try {
-            last = { clock: block.clock, host_ms: block.host_ms };
-            if (dec) {
-              emit(dec.process(block.t, block.angle, block.flags, 0, block.n), block.channels, block);
-            } else if (pending) {
-              pending.append(block.t, block.angle, block.flags, block.channels, 0, block.n);
-              drainPending(block, false);
-            }
-          } catch (e) {
-            subscriber.error(e);
+          last = { clock: block.clock, host_ms: block.host_ms };
+          if (dec) {
+            emit(dec.process(block.t, block.angle, block.flags, 0, block.n), block.channels, block);
+          } else if (pending) {
+            pending.append(block.t, block.angle, block.flags, block.channels, 0, block.n);
+            drainPending(block, false);
           }
-        },
-        error(e) {
-          subscriber.error(e);
         },
         complete() {
-          try {
-            if (pending) drainPending(last, true);
-            subscriber.complete();
-          } catch (e) {
-            subscriber.error(e);
-          }
+          if (pending) drainPending(last, true);
         },
-      });
-      return () => {
-        closed = true;
-        sub.unsubscribe();
-        dec = null;
-        pending = null;
       };
     });
 }

@@ -2,22 +2,21 @@
  * `fillHoles`: masked placeholders in small holes of the sample grid (see
  * src/analysis/hole-filler.ts), so later stages see uniform sampling.
  */
-import { Observable } from 'rxjs';
+import type { Observable } from 'rxjs';
 import type { AngleBlock } from '../src/domain/block.js';
 import { HoleFiller } from '../src/analysis/hole-filler.js';
+import { operate } from './operate.js';
 
 /** @return an operator from AngleBlock to AngleBlock with holes filled */
-export function fillHoles(opts: { gapFactor?: number } = {}): (source: Observable<AngleBlock>) => Observable<AngleBlock> {
+export function fillHoles(): (source: Observable<AngleBlock>) => Observable<AngleBlock> {
   return (source) =>
-    new Observable<AngleBlock>((subscriber) => {
-      const f = new HoleFiller(opts.gapFactor);
-      return source.subscribe({
+    operate<AngleBlock, AngleBlock>(source, (out) => {
+      const f = new HoleFiller();
+      return {
         next(b) {
           const r = f.process(b.t, b.angle, b.flags, b.channels as Record<string, Float64Array | undefined>, b.n);
-          subscriber.next(r.n === b.n ? b : { ...b, n: r.n, t: r.t, angle: r.y, flags: r.flags, channels: r.channels });
+          out.next(r.n === b.n ? b : { ...b, n: r.n, t: r.t, angle: r.y, flags: r.flags, channels: r.channels });
         },
-        error: (e) => subscriber.error(e),
-        complete: () => subscriber.complete(),
-      });
+      };
     });
 }

@@ -2,9 +2,18 @@
  * The assembled analysis pipeline, the same for a live device, a file replay
  * and the simulator: fill holes → clean → (gap events) → condition (decimation chosen from
  * the first period estimate) → sliding windows in periods → analyse.
+ *
+ * Faults (restart-on-fault.ts): every stage runs under `restartOnFault`. A
+ * stage that throws is replaced by a fresh one for the following blocks; the
+ * restart counts as a gap (the fresh stage's first block carries
+ * FLAG_AFTER_GAP, so no Hampel window, filter run or analysis window spans
+ * the fault), and one `internal-error` incident naming the stage goes to
+ * `onIncident`. The samples the failed stage held are stored (the session
+ * wrote them before the pipeline saw them), only not analysed. A window whose
+ * analysis throws is kept with status `internal-error` (analyse.ts).
  */
-import { Observable, share } from 'rxjs';
-import type { AngleBlock } from '../src/domain/block.js';
+import { share, tap, type Observable, type OperatorFunction } from 'rxjs';
+import { FLAG_AFTER_GAP, type AngleBlock } from '../src/domain/block.js';
 import type { Incident } from '../src/domain/events.js';
 import type { WindowResult } from '../src/domain/window-result.js';
 import type { AnalysisConfig } from '../src/config/station.js';
@@ -13,14 +22,17 @@ import { clean } from './clean.js';
 import { fillHoles } from './fill-holes.js';
 import { gapEvents } from './gap-events.js';
 import { adaptiveCondition } from './adaptive-condition.js';
+import { condition } from './condition.js';
 import { slidingWindows } from './window.js';
 import { analyse } from './analyse.js';
 import { PeriodTracker } from './period-tracker.js';
+import { restartOnFault, type StageFault } from './restart-on-fault.js';
+import { faultIncident } from './fault-incident.js';
 
 export interface PipelineOptions {
   analysis: AnalysisConfig;
   derive?: DeriveContext;
-  /** incidents found on the way (gaps in the sample times) */
+  /** incidents found on the way: gaps in the sample times, `internal-error` for a stage that threw */
   onIncident?: (inc: Incident) => void;
   /** the first period estimate and the decimation factor chosen */
   onFirstEstimate?: (period_s: number, factor: number) => void;
@@ -35,20 +47,63 @@ export interface Pipeline {
   windows$: Observable<WindowResult>;
 }
 
+/** The same block with FLAG_AFTER_GAP on its first sample (flags copied: the block may be shared). */
+function markGap(b: AngleBlock): AngleBlock {
+  if (b.n === 0 || b.flags[0] & FLAG_AFTER_GAP) return b;
+  const flags = b.flags.slice();
+  flags[0] |= FLAG_AFTER_GAP;
+  return { ...b, flags };
+}
+
+/** Sample time of a stage's input, s: the first sample of a block or of a window. */
+function timeOf(input: unknown): number | undefined {
+  if (!input || typeof input !== 'object') return undefined;
+  const v = input as { t?: unknown; n?: unknown };
+  if (!(v.t instanceof Float64Array)) return undefined;
+  const n = typeof v.n === 'number' ? v.n : v.t.length;
+  return n > 0 && Number.isFinite(v.t[0]) ? v.t[0] : undefined;
+}
+
 /** Build the pipeline over a stream of run-time blocks. */
 export function analysisPipeline(blocks$: Observable<AngleBlock>, opts: PipelineOptions): Pipeline {
   const a = opts.analysis;
+  const report = (inc: Incident): void => opts.onIncident?.(inc);
   const tracker = new PeriodTracker(a.period_guess_s);
   // fits on low-passed, decimated samples see band-limited noise: their standard errors are scaled up (see decimate.ts)
   const noise = { sigmaFactor: 1 };
+  // once fixed, the decimation factor outlives a restart of the conditioning (it is a choice, not state)
+  let factor: number | undefined;
+  let nextWindow = 0;
+  // times of faults before gapEvents: the jump they leave is reported by the fault, not again as a gap
+  const faultTimes: number[] = [];
+
+  const onFault = (what: string) => (f: StageFault<unknown>): undefined => {
+    const t = timeOf(f.input);
+    if (t !== undefined && (f.stage === 'fill-holes' || f.stage === 'clean')) faultTimes.push(t);
+    const inc = faultIncident(f, { kind: 'internal-error', t, consequence: what });
+    if (inc) report(inc);
+    return undefined;
+  };
+  const sampleStage = (stage: string, make: () => OperatorFunction<AngleBlock, AngleBlock>): OperatorFunction<AngleBlock, AngleBlock> =>
+    restartOnFault(make, {
+      stage,
+      markRestart: markGap,
+      onFault: onFault('restarted with fresh state; the analysis goes on as after a gap (the samples the stage held are stored, not analysed)'),
+    });
+  const isFaultRestart = (from_s: number, to_s: number): boolean => {
+    const i = faultTimes.findIndex((t) => t > from_s && t <= to_s);
+    if (i >= 0) faultTimes.splice(0, i + 1);
+    return i >= 0;
+  };
+
   const cleaned$ = blocks$.pipe(
-    fillHoles(),
-    clean({ hampelHalfWidth: a.hampel_half_width, hampelThreshold: a.hampel_threshold, hampelMinScale_rad: opts.quantum_rad }),
-    gapEvents((inc) => opts.onIncident?.(inc)),
+    sampleStage('fill-holes', () => fillHoles()),
+    sampleStage('clean', () => clean({ hampelHalfWidth: a.hampel_half_width, hampelThreshold: a.hampel_threshold, hampelMinScale_rad: opts.quantum_rad })),
+    sampleStage('gap-events', () => gapEvents(report, { isFaultRestart })),
     share(),
   );
   const windows$ = cleaned$.pipe(
-    adaptiveCondition({
+    sampleStage('condition', () => factor !== undefined ? condition({ factor }) : adaptiveCondition({
       samplesPerPeriod: a.samples_per_period,
       periodGuess_s: a.period_guess_s,
       firstEstimate_s: a.first_estimate_s,
@@ -56,12 +111,22 @@ export function analysisPipeline(blocks$: Observable<AngleBlock>, opts: Pipeline
         tracker.seed(p);
         opts.onFirstEstimate?.(p, m);
       },
-      onFactor: (_m, f) => {
+      onFactor: (m, f) => {
+        factor = m;
         noise.sigmaFactor = f;
       },
+    })),
+    restartOnFault(() => slidingWindows({ windowPeriods: a.window_periods, stepPeriods: a.step_periods, period$: () => tracker.current, firstIndex: nextWindow }), {
+      stage: 'windows',
+      onFault: onFault('restarted with fresh state; the next window starts after the fault (the samples it held are stored, not analysed)'),
     }),
-    slidingWindows({ windowPeriods: a.window_periods, stepPeriods: a.step_periods, period$: () => tracker.current }),
-    analyse({ derive: opts.derive, tracker, sigmaScaleNow: () => noise.sigmaFactor }),
+    tap((w) => {
+      nextWindow = w.index + 1;
+    }),
+    restartOnFault(() => analyse({ derive: opts.derive, tracker, sigmaScaleNow: () => noise.sigmaFactor, onIncident: report }), {
+      stage: 'analyse',
+      onFault: onFault('restarted; the window it was working on is lost, the next ones are analysed'),
+    }),
     share(),
   );
   return { cleaned$, windows$ };

@@ -1,6 +1,6 @@
 /**
  * Values that flow between the pipeline operators besides `AngleBlock`
- * (src/config/block.ts).
+ * (src/domain/block.ts).
  */
 
 /** One analysis window: samples of one gap-free stretch spanning `windowPeriods` periods. */
@@ -20,6 +20,4 @@ export interface WindowData {
   t_end_s: number;
   /** the period estimate the window was cut with, seconds */
   periodHint_s: number;
-  /** true when the window is shorter than `windowPeriods`: the stretch ended (gap, end of data) or memory capped it */
-  partial: boolean;
 }

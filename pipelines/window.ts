@@ -1,10 +1,8 @@
-import { Observable } from 'rxjs';
+import type { Observable } from 'rxjs';
 import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../src/domain/block.js';
 import { BlockBuffer } from '../src/analysis/block-buffer.js';
 import type { WindowData } from './types.js';
-
-/** Hook that returns a first period estimate (seconds) from the data of the current gap-free stretch, or undefined for "not yet". */
-export type FirstPeriodEstimate = (t: Float64Array, y: Float64Array, mask: Uint8Array) => number | undefined;
+import { operate } from './operate.js';
 
 /** Options of `slidingWindows`. */
 export interface SlidingWindowOptions {
@@ -12,17 +10,13 @@ export interface SlidingWindowOptions {
   windowPeriods: number;
   /** step between window starts in periods (station `analysis.step_periods`), ≤ windowPeriods */
   stepPeriods: number;
-  /** getter of the running period estimate, seconds; undefined while there is none (then the first estimate is used) */
+  /** getter of the running period estimate, seconds; undefined while there is none (samples are held meanwhile) */
   period$: () => number | undefined;
-  /**
-   * first estimate from the buffered stretch (e.g. an FFT over the first
-   * minutes); called after each block until it returns a period, so return
-   * undefined cheaply until enough data are held
-   */
-  firstEstimate?: FirstPeriodEstimate;
-  /** most samples held, waiting for a period or a window end (default 1 048 576); beyond it the oldest go, or a window is cut partial */
+  /** index of the first window (default 0): a stage restarted after a fault goes on numbering where the last one stopped */
+  firstIndex?: number;
+  /** most samples held, waiting for a period or a window end (default 1 048 576); beyond it the oldest go, or a window is cut short */
   maxSamples?: number;
-  /** a partial window (before a gap, at the end, cut by maxSamples) is emitted when it spans at least this many periods (default min(windowPeriods, 2)) */
+  /** a short window (before a gap, at the end, cut by maxSamples) is emitted when it spans at least this many periods (default min(windowPeriods, 2)) */
   minPeriods?: number;
 }
 
@@ -34,13 +28,11 @@ const BAD = FLAG_SATURATED | FLAG_SPIKE | FLAG_INVALID;
  * running period estimate when each window is cut. A window holds the samples
  * with t in [start, start + windowPeriods·P) and is emitted once a later sample
  * shows it complete, whatever the block boundaries. No window straddles a gap:
- * at FLAG_AFTER_GAP the open window is emitted partial (if it spans
+ * at FLAG_AFTER_GAP the open window is emitted short (if it spans
  * `minPeriods`) and the next starts at the sample after the gap; completion
  * does the same. Until a period is known, samples of the current stretch are
- * buffered (at most `maxSamples`, oldest dropped) and offered to
- * `firstEstimate`; the first estimate is kept for later stretches. Samples
- * with a non-finite time are skipped. Memory: samples before the next window
- * start are released.
+ * held (at most `maxSamples`, oldest dropped). Samples with a non-finite time
+ * are skipped. Memory: samples before the next window start are released.
  *
  * @example
  * ```ts
@@ -60,18 +52,18 @@ export function slidingWindows(opts: SlidingWindowOptions): (source: Observable<
   if (!Number.isInteger(maxSamples) || maxSamples < 16) throw new RangeError(`maxSamples: must be an integer ≥ 16 (got ${maxSamples})`);
   const minPeriods = opts.minPeriods ?? Math.min(W, 2);
   if (!(minPeriods > 0) || !(minPeriods <= W)) throw new RangeError(`minPeriods: must be > 0 and ≤ windowPeriods (got ${minPeriods})`);
+  const firstIndex = opts.firstIndex ?? 0;
+  if (!Number.isInteger(firstIndex) || firstIndex < 0) throw new RangeError(`firstIndex: must be an integer ≥ 0 (got ${firstIndex})`);
 
   return (source) =>
-    new Observable<WindowData>((subscriber) => {
-      let buf: BlockBuffer | null = new BlockBuffer();
-      let firstPeriod: number | undefined;
+    operate<AngleBlock, WindowData>(source, (out) => {
+      const buf = new BlockBuffer();
       let ws: number | undefined; // start time of the open window
-      let index = 0;
+      let index = firstIndex;
 
-      const usable = (p: number | undefined): p is number => p !== undefined && p > 0 && Number.isFinite(p);
       const period = (): number | undefined => {
         const p = opts.period$();
-        return usable(p) ? p : firstPeriod;
+        return p !== undefined && p > 0 && Number.isFinite(p) ? p : undefined;
       };
 
       /** first absolute index with t ≥ time (t increases within a stretch) */
@@ -87,7 +79,7 @@ export function slidingWindows(opts: SlidingWindowOptions): (source: Observable<
         return b.start + lo;
       };
 
-      const emitWindow = (b: BlockBuffer, from: number, to: number, p: number, partial: boolean): void => {
+      const emitWindow = (b: BlockBuffer, from: number, to: number, p: number): void => {
         if (to <= from) return;
         const c = b.copy(from, to);
         const mask = new Uint8Array(c.flags.length);
@@ -100,24 +92,13 @@ export function slidingWindows(opts: SlidingWindowOptions): (source: Observable<
           t_start_s: c.t[0],
           t_end_s: c.t[c.t.length - 1],
           periodHint_s: p,
-          partial,
         };
         if (c.channels.temp_C) w.temp = c.channels.temp_C;
-        subscriber.next(w);
-      };
-
-      const tryFirstEstimate = (b: BlockBuffer): void => {
-        if (firstPeriod !== undefined || !opts.firstEstimate || b.length === 0 || usable(opts.period$())) return;
-        const v = b.views();
-        const mask = new Uint8Array(v.flags.length);
-        for (let i = 0; i < mask.length; i++) mask[i] = v.flags[i] & BAD ? 0 : 1;
-        const p = opts.firstEstimate(v.t, v.y, mask);
-        if (usable(p)) firstPeriod = p;
+        out.next(w);
       };
 
       /** Emit every window the held samples complete; keep memory within the cap. */
       const advance = (b: BlockBuffer): void => {
-        tryFirstEstimate(b);
         for (;;) {
           const p = period();
           if (p === undefined) {
@@ -130,10 +111,10 @@ export function slidingWindows(opts: SlidingWindowOptions): (source: Observable<
           const lastT = b.timeAt(b.end - 1);
           const from = lowerBound(b, ws);
           if (lastT >= wEnd) {
-            emitWindow(b, from, lowerBound(b, wEnd), p, false);
+            emitWindow(b, from, lowerBound(b, wEnd), p);
           } else if (b.end - from > maxSamples) {
             // the window would hold more than the cap: cut it here, never stall
-            emitWindow(b, from, b.end, p, true);
+            emitWindow(b, from, b.end, p);
           } else {
             if (b.length > maxSamples) b.dropBefore(b.end - maxSamples);
             return;
@@ -143,14 +124,13 @@ export function slidingWindows(opts: SlidingWindowOptions): (source: Observable<
         }
       };
 
-      /** The stretch ends (gap or end of data): emit the open window partial, start afresh. */
+      /** The stretch ends (gap or end of data): emit the open window short, start afresh. */
       const endStretch = (b: BlockBuffer): void => {
-        tryFirstEstimate(b);
         advance(b);
         const p = period();
         if (p !== undefined && ws !== undefined && b.length > 0) {
           const from = lowerBound(b, ws);
-          if (from < b.end && b.timeAt(b.end - 1) - b.timeAt(from) >= minPeriods * p) emitWindow(b, from, b.end, p, true);
+          if (from < b.end && b.timeAt(b.end - 1) - b.timeAt(from) >= minPeriods * p) emitWindow(b, from, b.end, p);
         }
         b.clear();
         ws = undefined;
@@ -166,39 +146,19 @@ export function slidingWindows(opts: SlidingWindowOptions): (source: Observable<
         b.append(block.t, block.angle, block.flags, block.channels, a, to);
       };
 
-      const sub = source.subscribe({
+      return {
         next(block) {
-          const b = buf;
-          if (!b) return;
-          try {
-            let from = 0;
-            for (let i = 0; i < block.n; i++) {
-              if (!(block.flags[i] & FLAG_AFTER_GAP)) continue;
-              appendFinite(b, block, from, i);
-              if (b.length > 0) endStretch(b);
-              from = i;
-            }
-            appendFinite(b, block, from, block.n);
-            advance(b);
-          } catch (e) {
-            subscriber.error(e);
+          let from = 0;
+          for (let i = 0; i < block.n; i++) {
+            if (!(block.flags[i] & FLAG_AFTER_GAP)) continue;
+            appendFinite(buf, block, from, i);
+            if (buf.length > 0) endStretch(buf);
+            from = i;
           }
+          appendFinite(buf, block, from, block.n);
+          advance(buf);
         },
-        error(e) {
-          subscriber.error(e);
-        },
-        complete() {
-          try {
-            if (buf) endStretch(buf);
-            subscriber.complete();
-          } catch (e) {
-            subscriber.error(e);
-          }
-        },
-      });
-      return () => {
-        sub.unsubscribe();
-        buf = null;
+        complete: () => endStretch(buf),
       };
     });
 }

@@ -78,7 +78,7 @@ function makeEncoder(sc: Scenario, format: 'lines' | 'frames'): (b: SimBlock, fr
   };
 }
 
-/** The header comment of lines output: declares the columns (WIRE.md `# columns:`). */
+/** The header comment of lines output: declares the columns (docs/wire.md `# columns:`). */
 function linesHeader(sc: Scenario): Uint8Array {
   return Buffer.from(`# fibrewatch simulator: scenario ${sc.name}\n# columns: ${linesColumns(sc).join(',')}\n`, 'utf8');
 }

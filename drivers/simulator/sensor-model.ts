@@ -1,12 +1,12 @@
 /**
  * The simulator's detectors: true angle → the raw channels a station's
- * firmware would send (DOMAIN.md, "Reading the angle"). The optical lever
+ * firmware would send (docs/physics.md, "Reading the angle"). The optical lever
  * turns the beam by 2θ, so the spot on a detector at lever arm D sits at
  * x = D·tan(2θ).
  */
+import erf from '@stdlib/math-base-special-erf';
 import type { ValueRole } from '../../src/domain/block.js';
-import { erf } from '../erfinv.js';
-import type { Rng } from './rng.js';
+import type { Rng } from '../../src/analysis/rng.js';
 import type { Scenario } from './scenario.js';
 
 /** The sensor part of a scenario. */

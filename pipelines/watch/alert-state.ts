@@ -7,16 +7,20 @@
  */
 import type { AlertState as State, EventKind, Incident, Severity } from '../../src/domain/events.js';
 
-/** Options of createAlertState. */
-export interface AlertStateOptions {
-  kind: EventKind;
-  severity: Severity;
-  /** least time between two `updated` incidents, s (default 900 = 15 min) */
+/** The life-cycle settings every watcher takes (its own default for updateEvery_s). */
+export interface AlertTuning {
+  /** least time between two `updated` incidents, s (default 900 = 15 min, or the watcher's) */
   updateEvery_s?: number;
   /** hysteresis: the statistic must fall below this fraction of its threshold to count as ok (default 0.7) */
   clearFraction?: number;
   /** consecutive ok evaluations needed to clear (default 3) */
   clearAfter?: number;
+}
+
+/** Options of createAlertState. */
+export interface AlertStateOptions extends AlertTuning {
+  kind: EventKind;
+  severity: Severity;
   /** consecutive evaluations over threshold needed to raise (default 1) */
   raiseAfter?: number;
 }
@@ -48,6 +52,8 @@ export interface AlertStateMachine {
   readonly active: boolean;
   /** time raised, s (NaN when not active) */
   readonly raisedAt: number;
+  /** the hysteresis fraction in use (the option or its default), for the watchers' messages */
+  readonly clearFraction: number;
 }
 
 /** Create the life-cycle state machine for one alert kind. */
@@ -80,6 +86,7 @@ export function createAlertState(opts: AlertStateOptions): AlertStateMachine {
   return {
     get active() { return active; },
     get raisedAt() { return raisedAt; },
+    clearFraction,
     step(ev) {
       const over = ev.stat >= ev.statThreshold && ev.significant !== false;
       if (!active) {

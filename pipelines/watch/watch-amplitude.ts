@@ -3,28 +3,25 @@
  * (the swing approaches the fibre's elastic twist limit, passed in as
  * limit_rad, e.g. alerts.twist_fraction × θ_max from src/physics).
  */
-import { Observable } from 'rxjs';
+import type { Observable } from 'rxjs';
 import type { Incident } from '../../src/domain/events.js';
 import type { WindowResult } from '../../src/domain/window-result.js';
-import { createAlertState } from './alert-state.js';
+import { createAlertState, type AlertTuning } from './alert-state.js';
+import { operate } from '../operate.js';
 
-/** Caution shown with amplitude-limit (DOMAIN.md "Cautions the tool shows"). */
+/** Caution shown with amplitude-limit (docs/physics.md, "Cautions"). */
 export const TWIST_CAUTION =
   'Caution: a twist beyond the elastic limit can permanently set or break the fibre; a break drops the suspended mass. ' +
   "Stay within the fibre's rated load and use a catcher. Guidance only: local codes and licensed practice govern.";
 
-/** Options of watchAmplitude. */
-export interface WatchAmplitudeOptions {
+/** Options of watchAmplitude (`updateEvery_s` default 1800 s; the clear levels are fixed: 1.25 × the floor, 0.9 × the limit). */
+export interface WatchAmplitudeOptions extends Pick<AlertTuning, 'updateEvery_s' | 'clearAfter'> {
   /** below this amplitude the fit is unreliable, rad (absent: no amplitude-low) */
   min_rad?: number;
   /** raise amplitude-limit at or above this amplitude, rad (absent: no amplitude-limit) */
   limit_rad?: number;
   /** caution appended to amplitude-limit messages (default TWIST_CAUTION) */
   cautionText?: string;
-  /** least time between `updated` incidents, s (default 1800) */
-  updateEvery_s?: number;
-  /** consecutive windows to clear (default 3) */
-  clearAfter?: number;
 }
 
 /** Watch window amplitudes against a floor and the twist limit; emits amplitude-low / amplitude-limit incidents. */
@@ -34,12 +31,14 @@ export function watchAmplitude(opts: WatchAmplitudeOptions) {
   if (min !== undefined && !(min > 0)) throw new RangeError(`watchAmplitude: min_rad must be > 0, got ${min}`);
   if (limit !== undefined && !(limit > 0)) throw new RangeError(`watchAmplitude: limit_rad must be > 0, got ${limit}`);
   return (source: Observable<WindowResult>) =>
-    new Observable<Incident>((sub) => {
+    operate<WindowResult, Incident>(source, (out) => {
       const common = { updateEvery_s: opts.updateEvery_s ?? 1800, clearAfter: opts.clearAfter ?? 3 };
       // amplitude-low clears above 1/0.8 = 1.25 × min; amplitude-limit below 0.9 × limit
       const low = createAlertState({ kind: 'amplitude-low', severity: 'warning', clearFraction: 0.8, ...common });
       const high = createAlertState({ kind: 'amplitude-limit', severity: 'alarm', clearFraction: 0.9, ...common });
-      const onWindow = (w: WindowResult) => {
+      const clearLow = min === undefined ? NaN : min / low.clearFraction;
+      const clearHigh = limit === undefined ? NaN : limit * high.clearFraction;
+      const onWindow = (w: WindowResult): void => {
         // a rejected fit's amplitude is not to be trusted (it could cry amplitude-limit on garbage)
         if (w.status !== 'ok' || w.amplitude_rad === null || !Number.isFinite(w.amplitude_rad)) return;
         const a = Math.abs(w.amplitude_rad);
@@ -49,26 +48,21 @@ export function watchAmplitude(opts: WatchAmplitudeOptions) {
           const inc = low.step({
             t, stat: a > 0 ? min / a : Infinity, statThreshold: 1, value: a, threshold: min, data,
             message: (st) => st === 'cleared'
-              ? `amplitude back to ${a.toExponential(2)} rad (floor ${min.toExponential(2)} rad)`
+              ? `amplitude back to ${a.toExponential(2)} rad, above ${clearLow.toExponential(2)} rad (floor ${min.toExponential(2)} rad)`
               : `amplitude ${a.toExponential(2)} rad is below ${min.toExponential(2)} rad: too small to fit reliably`,
           });
-          if (inc) sub.next(inc);
+          if (inc) out.next(inc);
         }
         if (limit !== undefined) {
           const inc = high.step({
             t, stat: a / limit, statThreshold: 1, value: a, threshold: limit, data,
             message: (st) => st === 'cleared'
-              ? `amplitude down to ${a.toExponential(2)} rad, below 90 % of the limit ${limit.toExponential(2)} rad`
+              ? `amplitude down to ${a.toExponential(2)} rad, below ${clearHigh.toExponential(2)} rad (${(100 * high.clearFraction).toFixed(0)} % of the limit ${limit.toExponential(2)} rad)`
               : `amplitude ${a.toExponential(2)} rad is at ${((100 * a) / limit).toFixed(0)} % of the limit ${limit.toExponential(2)} rad. ${caution}`,
           });
-          if (inc) sub.next(inc);
+          if (inc) out.next(inc);
         }
       };
-      const s = source.subscribe({
-        next: (w) => { try { onWindow(w); } catch (e) { sub.error(e); } },
-        error: (e) => sub.error(e),
-        complete: () => sub.complete(),
-      });
-      return () => s.unsubscribe();
+      return { next: onWindow };
     });
 }

@@ -6,19 +6,21 @@
  * Significance rule: raise when |rate| > threshold AND
  * (|rate| − threshold)/σ_rate > z (one-sided, z = 2 by default, ≈ 2.3 %
  * chance that a rate exactly at the threshold raises). Clear after
- * `clearAfter` evaluations in a row with |rate| < 0.7 × threshold.
+ * `clearAfter` evaluations in a row with |rate| < clearFraction × threshold
+ * (defaults 3 and 0.7).
  * While raised, a log-creep fit over the data since the drift began (at most
  * horizon_h back) gives "settled in about N h".
  */
-import { Observable } from 'rxjs';
+import type { Observable } from 'rxjs';
 import type { Incident } from '../../src/domain/events.js';
 import type { WindowResult } from '../../src/domain/window-result.js';
 import { robustTrend } from '../../src/analysis/robust-trend.js';
 import { fitLogCreep, forecastSettle, type SettleForecast } from '../../src/analysis/log-creep.js';
-import { createAlertState } from './alert-state.js';
+import { createAlertState, type AlertTuning } from './alert-state.js';
+import { operate } from '../operate.js';
 
-/** Options of watchEquilibrium. */
-export interface WatchEquilibriumOptions {
+/** Options of watchEquilibrium (`updateEvery_s` default 1800 s). */
+export interface WatchEquilibriumOptions extends AlertTuning {
   /** alert threshold, rad/h (station alerts.equilibrium_rate_rad_per_hour; default 5e-6) */
   threshold_rad_per_hour?: number;
   /** trailing horizon of the rate estimate, s (default 3600) */
@@ -37,13 +39,8 @@ export interface WatchEquilibriumOptions {
   minPoints?: number;
   /** longest the rate horizon is stretched to hold minPoints windows, s (default 4·rateHorizon_s) */
   maxRateHorizon_s?: number;
-  /** least time between `updated` incidents, s (default 1800) */
-  updateEvery_s?: number;
   /** least time between two refits of the creep model while raised, s (default 600) */
   creepRefit_s?: number;
-  /** hysteresis (defaults 0.7 and 3, see alert-state.ts) */
-  clearFraction?: number;
-  clearAfter?: number;
 }
 
 /** Watch the equilibrium of successive windows for drift; emits equilibrium-drift incidents. */
@@ -63,7 +60,7 @@ export function watchEquilibrium(opts: WatchEquilibriumOptions = {}) {
   if (!(maxHorizon >= horizon)) throw new RangeError(`watchEquilibrium: maxRateHorizon_s must be ≥ rateHorizon_s, got ${maxHorizon}`);
   const keep = Math.max(maxHorizon, fitHorizon);
   return (source: Observable<WindowResult>) =>
-    new Observable<Incident>((sub) => {
+    operate<WindowResult, Incident>(source, (out) => {
       const alert = createAlertState({
         kind: 'equilibrium-drift', severity: 'warning',
         updateEvery_s: opts.updateEvery_s ?? 1800,
@@ -76,7 +73,7 @@ export function watchEquilibrium(opts: WatchEquilibriumOptions = {}) {
       let lastFitT = -Infinity;
       let forecast: SettleForecast | null = null;
       let creep: Record<string, unknown> | undefined;
-      const onWindow = (w: WindowResult) => {
+      const onWindow = (w: WindowResult): void => {
         if (w.status !== 'ok' || w.equilibrium_rad === null || !Number.isFinite(w.equilibrium_rad)) return;
         const t = w.t_mid_s;
         ts.push(t); ys.push(w.equilibrium_rad); ss.push(w.equilibrium_sigma_rad ?? NaN);
@@ -123,21 +120,16 @@ export function watchEquilibrium(opts: WatchEquilibriumOptions = {}) {
           value: rate,
           threshold: thr,
           message: (state) => state === 'cleared'
-            ? `equilibrium drift ended: ${perH(rate)} rad/h over the last ${(tr.span / 3600).toFixed(1)} h, below ${perH(0.7 * thr)} rad/h (threshold ${perH(thr)} rad/h)`
+            ? `equilibrium drift ended: ${perH(rate)} rad/h over the last ${(tr.span / 3600).toFixed(1)} h, below ${perH(alert.clearFraction * thr)} rad/h (threshold ${perH(thr)} rad/h)`
             : `equilibrium drifting at ${rate >= 0 ? '+' : ''}${perH(rate)} ± ${perH(sigma)} rad/h over the last ${(tr.span / 3600).toFixed(1)} h (threshold ${perH(thr)} rad/h)${settleText}`,
           data: {
             unit: 'rad/s', rate_rad_per_s: rate, rate_sigma_rad_per_s: sigma, threshold_rad_per_s: thr,
             horizon_s: tr.span, windows: tr.n, t_mid_s: t, ...(creep ? { creep } : {}),
           },
         });
-        if (inc) sub.next(inc);
+        if (inc) out.next(inc);
       };
-      const s = source.subscribe({
-        next: (w) => { try { onWindow(w); } catch (e) { sub.error(e); } },
-        error: (e) => sub.error(e),
-        complete: () => sub.complete(),
-      });
-      return () => s.unsubscribe();
+      return { next: onWindow };
     });
 }
 

@@ -5,13 +5,14 @@
  * block. The clock and scheduler are passed in, so tests run on a
  * TestScheduler or on real timers alike.
  */
-import { asyncScheduler, Observable, type SchedulerLike } from 'rxjs';
+import { asyncScheduler, type Observable, type SchedulerLike } from 'rxjs';
 import type { AngleBlock } from '../../src/domain/block.js';
 import type { Incident } from '../../src/domain/events.js';
-import { createAlertState } from './alert-state.js';
+import { createAlertState, type AlertTuning } from './alert-state.js';
+import { operate } from '../operate.js';
 
-/** Options of watchNoData. */
-export interface WatchNoDataOptions {
+/** Options of watchNoData (`updateEvery_s` default 600 s; cleared by the first block back). */
+export interface WatchNoDataOptions extends Pick<AlertTuning, 'updateEvery_s'> {
   /** silence that raises the alert, s (station alerts.no_data_s) */
   noData_s: number;
   /** clock, ms (default scheduler.now()) */
@@ -20,8 +21,6 @@ export interface WatchNoDataOptions {
   scheduler?: SchedulerLike;
   /** interval of the check, s (default min(1, no_data_s/4)) */
   check_s?: number;
-  /** least time between `updated` incidents, s (default 600) */
-  updateEvery_s?: number;
   /** host wall clock for Incident.host_ms, ms (default Date.now) */
   wall_ms?: () => number;
 }
@@ -35,13 +34,13 @@ export function watchNoData(opts: WatchNoDataOptions) {
   const check_ms = (opts.check_s ?? Math.min(1, limit / 4)) * 1000;
   const wall_ms = opts.wall_ms ?? Date.now;
   return (source: Observable<AngleBlock>) =>
-    new Observable<Incident>((sub) => {
+    operate<AngleBlock, Incident>(source, (out) => {
       // clear on the first block after the silence: no hysteresis beyond that
       const alert = createAlertState({ kind: 'no-data', severity: 'alarm', updateEvery_s: opts.updateEvery_s ?? 600, clearFraction: 1, clearAfter: 1 });
       let last = now();
       let lastSampleT: number | null = null;
       // stat: the silence now; shown: the silence the message reports (the whole gap when data is back)
-      const evaluate = (silent_ms: number, shown_ms = silent_ms) => {
+      const evaluate = (silent_ms: number, shown_ms = silent_ms): void => {
         const silent = shown_ms / 1000;
         const inc = alert.step({
           t: now() / 1000,
@@ -58,25 +57,27 @@ export function watchNoData(opts: WatchNoDataOptions) {
         if (inc) {
           // the recorder puts host-time incidents at "now": keep t undefined (Incident contract)
           delete inc.t;
-          sub.next(inc);
+          out.next(inc);
         }
       };
       const timer = scheduler.schedule(function tick() {
-        try { evaluate(now() - last); } catch (e) { sub.error(e); return; }
+        // a timer callback is not one of operate's handlers: its throw goes to the same error channel by hand
+        try {
+          evaluate(now() - last);
+        } catch (e) {
+          out.error(e);
+          return;
+        }
         this.schedule(undefined, check_ms);
       }, check_ms);
-      const s = source.subscribe({
-        next: (b) => {
-          try {
-            const gap = now() - last;
-            last = now();
-            if (b.n > 0) lastSampleT = b.t[b.n - 1];
-            if (alert.active) evaluate(0, gap);
-          } catch (e) { sub.error(e); }
+      return {
+        next(b) {
+          const gap = now() - last;
+          last = now();
+          if (b.n > 0) lastSampleT = b.t[b.n - 1];
+          if (alert.active) evaluate(0, gap);
         },
-        error: (e) => sub.error(e),
-        complete: () => sub.complete(),
-      });
-      return () => { timer.unsubscribe(); s.unsubscribe(); };
+        teardown: () => timer.unsubscribe(),
+      };
     });
 }

@@ -12,15 +12,17 @@
  * Raise rule: CUSUM statistic > h AND the latest window's shift ≥
  * raiseFraction × period_change_ppm on the same side (see the option).
  */
-import { Observable } from 'rxjs';
+import type { Observable } from 'rxjs';
 import type { Incident } from '../../src/domain/events.js';
 import type { WindowResult } from '../../src/domain/window-result.js';
 import { cusumInit, cusumOptions, cusumStatistic, cusumStep, type CusumOptions } from '../../src/analysis/cusum.js';
 import { fitTempCoefficient } from '../../src/analysis/temp-coefficient.js';
-import { createAlertState } from './alert-state.js';
+import { weightedMean } from '../../src/analysis/weighted-stats.js';
+import { createAlertState, type AlertTuning } from './alert-state.js';
+import { operate } from '../operate.js';
 
-/** Options of watchPeriod. */
-export interface WatchPeriodOptions {
+/** Options of watchPeriod (`updateEvery_s` default 1800 s). */
+export interface WatchPeriodOptions extends AlertTuning {
   /** change to detect, ppm (station alerts.period_change_ppm; default 300) */
   periodChange_ppm?: number;
   /** ok windows averaged for the baseline (default 30) */
@@ -41,11 +43,6 @@ export interface WatchPeriodOptions {
    * swing of ±100 ppm with no temperature channel to remove it must not read as a 300 ppm change
    */
   raiseFraction?: number;
-  /** least time between `updated` incidents, s (default 1800) */
-  updateEvery_s?: number;
-  /** hysteresis (defaults 0.7 and 3) */
-  clearFraction?: number;
-  clearAfter?: number;
 }
 
 /** Watch the window periods for a change beyond period_change_ppm; emits period-drift incidents. */
@@ -63,7 +60,7 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
   if (!(delta > 0)) throw new RangeError(`watchPeriod: periodChange_ppm must be > 0, got ${ppm}`);
   if (!(nBase >= 1)) throw new RangeError(`watchPeriod: baselineWindows must be ≥ 1, got ${nBase}`);
   return (source: Observable<WindowResult>) =>
-    new Observable<Incident>((sub) => {
+    operate<WindowResult, Incident>(source, (out) => {
       const alert = createAlertState({
         kind: 'period-drift', severity: 'warning',
         updateEvery_s: opts.updateEvery_s ?? 1800,
@@ -79,7 +76,7 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
       // trailing buffer for the temperature fit
       let bt: number[] = [], bT: number[] = [], bp: number[] = [], bs: number[] = [];
       const recent: number[] = [];
-      const onWindow = (w: WindowResult) => {
+      const onWindow = (w: WindowResult): void => {
         if (w.status !== 'ok' || w.period_s === null || !Number.isFinite(w.period_s)) return;
         const p = w.period_s;
         const sp = w.period_sigma_s !== null && Number.isFinite(w.period_sigma_s) ? w.period_sigma_s : NaN;
@@ -88,15 +85,14 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
         if (!Number.isFinite(pRef)) {
           base.push({ p, s: sp, T });
           if (base.length < nBase) return;
-          // weighted mean, σ floored at 1 ppm so one over-confident window cannot set the baseline
-          let sw = 0, swp = 0, sT = 0, nT = 0;
+          // weighted mean, σ floored at 1 ppm of the median so one over-confident window cannot set the
+          // baseline; a window without σ counts as 10 ppm
           const med = base.map((b) => b.p).sort((a, b) => a - b)[base.length >> 1];
-          for (const b of base) {
-            const s = Math.max(Number.isFinite(b.s) ? b.s : med * 1e-5, med * 1e-6);
-            sw += 1 / (s * s); swp += b.p / (s * s);
-            if (b.T !== null) { sT += b.T; nT++; }
-          }
-          pRef = swp / sw;
+          const m = weightedMean(base.map((b) => b.p), base.map((b) => (Number.isFinite(b.s) ? b.s : med * 1e-5)), { sigmaFloor: med * 1e-6, birge: false });
+          if (!m) return;
+          let sT = 0, nT = 0;
+          for (const b of base) if (b.T !== null) { sT += b.T; nT++; }
+          pRef = m.mean;
           tRef = nT > 0 ? sT / nT : null;
           return;
         }
@@ -119,14 +115,14 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
           value: shift * 1e6,
           threshold: ppm,
           message: (st) => st === 'cleared'
-            ? `period back within ${(0.7 * ppm).toFixed(0)} ppm of the baseline ${pRef.toFixed(6)} s: ${fmtPpm(shift)} ppm now`
+            ? `period back within ${(alert.clearFraction * ppm).toFixed(0)} ppm of the baseline ${pRef.toFixed(6)} s: ${fmtPpm(shift)} ppm now`
             : `period ${side > 0 ? 'up' : 'down'}: ${fmtPpm(shift)} ppm from the baseline ${pRef.toFixed(6)} s (threshold ${ppm} ppm; CUSUM ${g.toFixed(2)}, decision level ${co.h}, in units of ${ppm} ppm${useCoef && (coefFitted || prior !== 0) ? `; temperature removed at ${(coef * 1e6).toFixed(1)} ppm/K${coefFitted ? '' : ' (prior)'}` : ''})`,
           data: {
             unit: 'ppm', shift_ppm: shift * 1e6, period_s: p, baseline_period_s: pRef, cusum: g, cusum_h: co.h,
             side, temp_coefficient_ppm_per_K: useCoef ? coef * 1e6 : null, temp_coefficient_fitted: coefFitted, t_mid_s: t,
           },
         });
-        if (inc) sub.next(inc);
+        if (inc) out.next(inc);
         // learn the temperature coefficient from windows that look normal
         if (correct && T !== null && !alert.active && Math.abs(r) < delta) {
           bt.push(t); bT.push(T); bp.push(p); bs.push(sp);
@@ -141,12 +137,7 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
           }
         }
       };
-      const s = source.subscribe({
-        next: (w) => { try { onWindow(w); } catch (e) { sub.error(e); } },
-        error: (e) => sub.error(e),
-        complete: () => sub.complete(),
-      });
-      return () => s.unsubscribe();
+      return { next: onWindow };
     });
 }
 

@@ -1,7 +1,7 @@
 /**
  * The alert as it leaves the program (stderr line, webhook body, command
  * stdin): an Incident placed on the run's time base. JSON fields follow
- * CONTRACT.md `events` (`t` ISO 8601 UTC, `t_s` seconds since the run's start).
+ * docs/commands.md `events` (`t` ISO 8601 UTC, `t_s` seconds since the run's start).
  */
 import type { AlertState, EventKind, Incident, Severity } from '../domain/events.js';
 

@@ -1,5 +1,5 @@
 /**
- * Damped-sine fit of one window (CONTRACT.md "The fitted model"):
+ * Damped-sine fit of one window (docs/commands.md "The fitted model"):
  *
  *   θ(t) = θ_eq + d·(t − t_mid) + A·exp(−(t − t_mid)/τ)·cos(2π(t − t_mid)/T + φ)
  *

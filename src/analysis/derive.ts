@@ -3,8 +3,8 @@
  * standard uncertainty propagated to first order through the fit's full
  * covariance (the period T and the decay rate γ = 1/τ are correlated).
  *
- * Standard physics of the damped torsion oscillator (DOMAIN.md "The
- * oscillator" and "Fibres"; any mechanics text): ω_d = 2π/T,
+ * Standard physics of the damped torsion oscillator (docs/physics.md, "The
+ * damped oscillator" and "Fibres"; any mechanics text): ω_d = 2π/T,
  * ω₀² = ω_d² + γ², T₀ = 2π/ω₀, Q = ω₀τ/2 = π·τ/T₀, log decrement δ = T/τ,
  * κ = I·ω₀² = I·(2π/T₀)², round fibre G = 32·κ·L/(π·d⁴), flat ribbon
  * G = 3·κ·L/(w·t³) (w ≫ t). The values come from src/physics/torsion.ts;

@@ -1,5 +1,5 @@
 /**
- * Thin adapter over fft.js 4 for real input (TRAPS.md "fft.js 4"): sizes are
+ * Thin adapter over fft.js 4 for real input (docs/dependencies.md "fft.js 4"): sizes are
  * powers of two > 1, `realTransform` fills only bins 0…n/2 (interleaved
  * re/im, unnormalised, e^(−i·2πkn/N) sign), and input and output must differ.
  */

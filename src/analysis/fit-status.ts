@@ -25,12 +25,12 @@ export const FIT_STATUS = {
   decayUnphysical: 'decay-unphysical',
   /** the normal matrix is singular: parameters not identifiable from these samples */
   singular: 'singular-matrix',
+  /**
+   * the analysis threw (a program fault, not a property of the data): the window is kept unfitted
+   * and the run goes on; the message is in the run's `internal-error` event for this window
+   */
+  internalError: 'internal-error',
 } as const;
 
 /** One of the FIT_STATUS strings. */
 export type FitStatus = (typeof FIT_STATUS)[keyof typeof FIT_STATUS];
-
-/** True when the status is an accepted fit. */
-export function isFitOk(status: string): boolean {
-  return status === FIT_STATUS.ok;
-}

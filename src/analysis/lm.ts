@@ -1,6 +1,6 @@
 /**
  * Generic nonlinear least squares over ml-levenberg-marquardt 5.1.0, with the
- * library's known gaps closed in one place (TRAPS.md "ml-levenberg-marquardt"):
+ * library's known gaps closed in one place (docs/dependencies.md "ml-levenberg-marquardt"):
  *
  * - Scaling: parameters are fitted as q = p / scale (default scale |p0|, or 1)
  *   and residuals are divided by the data's RMS, because the library adds an

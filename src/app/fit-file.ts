@@ -6,7 +6,7 @@ import { analyseWindow } from '../analysis/window-analysis.js';
 import { readRecording } from './read-recording.js';
 import { deriveContextFor, twistLimitFor } from '../config/derive-context.js';
 
-/** The fitted numbers of CONTRACT.md's `fit` output, as a window stores them. */
+/** The fitted numbers of docs/commands.md's `fit` output, as a window stores them. */
 type FitNumbers = Pick<WindowResult,
   'period_s' | 'period_sigma_s' | 'decay_time_s' | 'decay_time_sigma_s' | 'q' | 'q_sigma' | 'amplitude_rad' | 'amplitude_sigma_rad'
   | 'equilibrium_rad' | 'equilibrium_sigma_rad' | 'drift_rad_per_s' | 'drift_sigma_rad_per_s' | 'phase_rad' | 'residual_rms_rad' | 'chi2_red'>;

@@ -1,7 +1,7 @@
 /**
  * One run in the archive while data flows into it: maps the samples' time base
  * to seconds since the run's start and to UTC, writes sample chunks, events and
- * window results, and commits at least once a second (ARCHITECTURE.md).
+ * window results, and commits at least once a second (docs/architecture.md).
  */
 import type Database from 'better-sqlite3';
 import type { AngleBlock, ValueRole } from '../domain/block.js';
@@ -30,7 +30,7 @@ export interface RunSessionOptions {
   sourcePath?: string;
   /** UTC ms of the first sample; default: host time when the first block arrives */
   startedAt_ms?: number;
-  /** commit cadence, ms (≤ 1000 per ARCHITECTURE.md) */
+  /** commit cadence, ms (≤ 1000 per docs/architecture.md) */
   maxLatency_ms?: number;
   meta?: Record<string, unknown>;
   /** called for each stored event (alert delivery, console) */

@@ -1,5 +1,5 @@
 /**
- * The `fibrewatch` command line (CONTRACT.md fixes the commands, flags and JSON
+ * The `fibrewatch` command line (docs/commands.md fixes the commands, flags and JSON
  * fields). Each command's work lives in src/cli/commands/<name>.ts and is loaded
  * only when that command runs, so a quick query starts fast.
  */
@@ -44,7 +44,7 @@ export function buildProgram(): Command {
     .description('Acquisition, analysis and drift watch for torsion balances')
     .version(process.env.npm_package_version ?? '0.1.0')
     .showHelpAfterError('(run with --help for usage)')
-    // set before the subcommands exist, so they inherit it: usage errors exit 2 (CONTRACT.md), not commander's 1
+    // set before the subcommands exist, so they inherit it: usage errors exit 2 (docs/commands.md), not commander's 1
     .exitOverride()
     .configureOutput({ writeErr: (s) => process.stderr.write(s) });
 
@@ -104,24 +104,19 @@ export function buildProgram(): Command {
     .option('--json', 'JSON array')
     .action(lazy('runs', 'runsCommand'));
 
-  p.command('show')
-    .description('one run\'s summary')
-    .argument('<run>', 'run number', runArg)
-    .addOption(dbOption())
+  // a command that reads one run of the store
+  const onRun = (name: string, description: string) =>
+    p.command(name).description(description).argument('<run>', 'run number', runArg).addOption(dbOption());
+
+  onRun('show', 'one run\'s summary')
     .option('--json')
     .action(lazy('show', 'showCommand'));
 
-  p.command('windows')
-    .description('per-window fit results of a run')
-    .argument('<run>', 'run number', runArg)
-    .addOption(dbOption())
+  onRun('windows', 'per-window fit results of a run')
     .option('--json', 'JSON array').option('--csv', 'CSV')
     .action(lazy('windows', 'windowsCommand'));
 
-  p.command('events')
-    .description('alerts and incidents of a run')
-    .argument('<run>', 'run number', runArg)
-    .addOption(dbOption())
+  onRun('events', 'alerts and incidents of a run')
     .option('--json', 'JSON array')
     .action(lazy('events', 'eventsCommand'));
 
@@ -138,20 +133,14 @@ export function buildProgram(): Command {
     .option('--json')
     .action(lazy('fibres', 'fibreCommand'));
 
-  p.command('export')
-    .description('data out for other tools')
-    .argument('<run>', 'run number', runArg)
+  onRun('export', 'data out for other tools')
     .addOption(new Option('--what <what>').choices(['samples', 'windows', 'events']).makeOptionMandatory())
     .addOption(new Option('--format <f>').choices(['csv', 'json']).default('csv'))
     .option('--out <file>', 'write here instead of stdout')
-    .addOption(dbOption())
     .action(lazy('export', 'exportCommand'));
 
-  p.command('report')
-    .description('a self-contained HTML report with plots')
-    .argument('<run>', 'run number', runArg)
+  onRun('report', 'a self-contained HTML report with plots')
     .requiredOption('--out <file>', 'HTML file to write')
-    .addOption(dbOption())
     .action(lazy('report', 'reportCommand'));
 
   p.command('ports')
@@ -162,7 +151,7 @@ export function buildProgram(): Command {
   return p;
 }
 
-/** Run the CLI; maps errors to CONTRACT.md's exit statuses. */
+/** Run the CLI; maps errors to docs/commands.md's exit statuses. */
 export async function main(argv: string[]): Promise<void> {
   // output piped into `head` and closed early is not an error
   process.stdout.on('error', (e: NodeJS.ErrnoException) => {

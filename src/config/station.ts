@@ -1,6 +1,6 @@
 /**
  * The station file: one JSON document describing one balance as it is set up
- * (CONTRACT.md). Validated once at the boundary; everything inward receives a
+ * (docs/commands.md). Validated once at the boundary; everything inward receives a
  * typed, trusted `Station`.
  */
 import { z } from 'zod';

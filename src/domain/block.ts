@@ -10,7 +10,7 @@ export const FLAG_SPIKE = 2; // marked by the despiker
 export const FLAG_AFTER_GAP = 4; // first sample after a gap (a window never straddles it)
 export const FLAG_INVALID = 8; // NaN or otherwise unusable
 
-/** Channel roles shared by the `lines` columns and the `frames` channels (WIRE.md). */
+/** Channel roles shared by the `lines` columns and the `frames` channels (docs/wire.md). */
 export const TIME_ROLES = ['t_s', 't_ms', 't_us'] as const;
 export const VALUE_ROLES = [
   'angle_rad', 'counts', 'a', 'b', 'x_m', 'temp_C',

@@ -1,4 +1,4 @@
-/** Errors that map to CONTRACT.md's exit statuses. */
+/** Errors that map to docs/commands.md's exit statuses. */
 
 /** Bad usage, bad station file or bad input file: exit 2 with one line naming the culprit. */
 export class UsageError extends Error {

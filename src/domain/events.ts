@@ -1,9 +1,12 @@
-/** Event kinds stored in the archive (CONTRACT.md lists the fixed ones; more are allowed). */
+/** Event kinds stored in the archive (docs/commands.md lists the fixed ones; more are allowed). */
 export const EVENT_KINDS = [
   'equilibrium-drift', 'period-drift', 'no-data', 'gap', 'reconnect', 'bad-input',
   'saturation', 'amplitude-low', 'amplitude-limit',
   // our own additions
   'run-start', 'run-end', 'device-lost', 'clock-note',
+  // faults of the program itself: a pipeline stage (or one window's analysis) threw and was restarted,
+  // or a watcher threw and was restarted with its state reset; acquisition and storage went on
+  'internal-error', 'watch-error',
 ] as const;
 export type EventKind = (typeof EVENT_KINDS)[number];
 

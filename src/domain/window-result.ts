@@ -1,5 +1,5 @@
 /**
- * Result of fitting one window (CONTRACT.md "The fitted model"). All SI; each
+ * Result of fitting one window (docs/commands.md "The fitted model"). All SI; each
  * `*_sigma_*` is the standard uncertainty of the quantity before it.
  * Fields are null when not computed (e.g. κ without an inertia).
  */

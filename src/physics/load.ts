@@ -1,5 +1,5 @@
 /**
- * Tensile load on a fibre carrying a suspended mass (DOMAIN.md, "Fibres").
+ * Tensile load on a fibre carrying a suspended mass (docs/physics.md, "Fibres").
  * Fibres are commonly loaded to about half their breaking stress (common
  * practice). Caution: a computed fraction is guidance, not certification —
  * a break drops the mass; use a catcher, enclose the pendulum, stay within

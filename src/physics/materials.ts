@@ -1,11 +1,10 @@
 /**
  * Fibre materials: room-temperature shear modulus, tensile strength and the
  * temperature coefficient of G, each value with where it comes from. Values
- * copied from /work/shared/reference/materials/fibre_materials.csv (source ids
- * as there): ODOP_US = the ODOP spring-material table, whose key cites a
+ * as in test/fixtures/materials/fibre_materials.csv (source ids as there, each
+ * source named in full in test/fixtures/materials/SOURCES.md): ODOP_US = the ODOP spring-material table, whose key cites a
  * major spring maker's design handbook and the SMI Handbook of Spring Design;
- * MATWEB_*, PYMATGEN, MAKEITFROM_SIO2, GLASS_STRENGTH_BLOG as listed in that
- * folder's README. "from memory" marks commonly quoted values with no
+ * MATWEB_*, PYMATGEN, MAKEITFROM_SIO2, GLASS_STRENGTH_BLOG as listed there. "from memory" marks commonly quoted values with no
  * citable copy. Wire strength depends strongly on diameter and temper.
  */
 
@@ -49,7 +48,7 @@ const inch = 0.0254;
 const MPa = 1e6;
 const GPa = 1e9;
 
-/** The materials table (values and source ids as in the shared reference CSV). */
+/** The materials table (values and source ids as in test/fixtures/materials/fibre_materials.csv). */
 export const MATERIALS: readonly Material[] = [
   {
     name: 'music wire',

@@ -1,6 +1,6 @@
 /**
  * Thermal (fluctuation–dissipation) limits of a torsion pendulum
- * (DOMAIN.md, "Limits worth comparing against"). One-sided spectral
+ * (docs/physics.md, "Limits to compare a measurement with"). One-sided spectral
  * densities, per hertz, as functions of frequency f in Hz.
  */
 import { K_BOLTZMANN } from './constants.js';

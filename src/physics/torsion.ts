@@ -1,5 +1,5 @@
 /**
- * Torsion-pendulum and torsion-fibre relations (DOMAIN.md, "The oscillator"
+ * Torsion-pendulum and torsion-fibre relations (docs/physics.md, "The damped oscillator"
  * and "Fibres"). Pure functions, SI units.
  */
 

@@ -1,5 +1,5 @@
 /**
- * Elastic twist limit of a round fibre (DOMAIN.md, "Fibres"): surface shear
+ * Elastic twist limit of a round fibre (docs/physics.md, "Fibres"): surface shear
  * strain γ = θ·d/(2L), stress τ = G·γ, largest elastic twist
  * θ_max = 2·L·τ_allow/(G·d).
  *

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { mkdtempSync, readFileSync, existsSync } from 'node:fs';
+import { setTimeout as sleep } from 'node:timers/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { createCommandSink } from '../../src/alerts/command-sink.js';
@@ -66,5 +67,51 @@ describe('command sink', () => {
     expect(await stuck.close(300)).toMatchObject({ ran: 0, failed: 1, pending: 1 });
     expect(Date.now() - t1).toBeLessThan(3000);
     expect(errors.some((e) => /not run/.test(e))).toBe(true);
+  });
+
+  it('a timed-out command whose grandchild holds the pipes: its whole process group is killed and the next alert runs at once', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'fw-cmd-'));
+    const pids = join(dir, 'pids');
+    // the program (sh) starts a grandchild that prints its pid, then becomes `sleep 60` (exec keeps the pid)
+    // and holds the inherited stdin/stderr pipes long after the timeout
+    const script = 'cat >/dev/null; echo started >&2; sh -c \'echo $$ >> "$1"; exec sleep 60\' inner "$1"';
+    const errors: string[] = [];
+    const sink = createCommandSink({ argv: ['/bin/sh', '-c', script, 'hook', pids], timeout_s: 0.15 }, { onError: (e) => errors.push(e), killGrace_ms: 300 });
+    for (let i = 0; i < 15; i++) sink.send(alert(i % 10));
+    const t0 = Date.now();
+    const st = await sink.close(2000);
+    const took_ms = Date.now() - t0;
+    expect(st).toEqual({ ran: 0, failed: 15, dropped: 0, pending: 0 });
+    expect(errors.filter((e) => /timed out after 0\.15 s, killed/.test(e))).toHaveLength(15);
+    // 15 runs of ≥ 0.15 s each, with no wait for the pipes; the old behaviour waited for the sleep (60 s)
+    expect(took_ms).toBeLessThan(15_000);
+    const started = readFileSync(pids, 'utf8').trim().split('\n').map(Number);
+    expect(started).toHaveLength(15);
+    await sleep(600); // past the kill grace
+    // gone, or a zombie waiting for init to reap it: no sleep left running
+    const alive = started.filter((pid) => {
+      try { process.kill(pid, 0); } catch { return false; }
+      try { return readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1]?.[0] !== 'Z'; } catch { return false; }
+    });
+    expect(alive).toEqual([]);
+  });
+
+  it('a program that exits leaving a background child on its pipes is done at its exit', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'fw-cmd-'));
+    const pids = join(dir, 'pids');
+    const script = 'cat >/dev/null; sleep 30 & echo $! >> "$1"; exit 0';
+    const errors: string[] = [];
+    const sink = createCommandSink({ argv: ['/bin/sh', '-c', script, 'hook', pids], timeout_s: 20 }, { onError: (e) => errors.push(e) });
+    for (let i = 0; i < 3; i++) sink.send(alert(i));
+    const t0 = Date.now();
+    try {
+      // waiting for the pipes to close would take the sleep's 30 s for each
+      expect(await sink.close(5000)).toEqual({ ran: 3, failed: 0, dropped: 0, pending: 0 });
+      expect(Date.now() - t0).toBeLessThan(15_000);
+      expect(errors).toEqual([]);
+    } finally {
+      // the sink leaves what a program started in the background alone; this test cleans up its own
+      for (const pid of readFileSync(pids, 'utf8').trim().split('\n').map(Number)) { try { process.kill(pid, 'SIGTERM'); } catch { /* gone */ } }
+    }
   });
 });

@@ -7,7 +7,7 @@ import { Rng } from '../../src/analysis/rng.js';
 interface Sim { eq: number; d: number; A: number; phi: number; T: number; tau: number }
 const base: Sim = { eq: 0.0123, d: 2e-8, A: 1.5e-3, phi: 0.9, T: 60, tau: 60 * 800 / Math.PI };
 
-/** synthetic window: scenario of our own, the model of CONTRACT.md plus white noise */
+/** synthetic window: scenario of our own, the model of docs/commands.md plus white noise */
 function simulate(p: Sim, n: number, periods: number, sigma: number, seed = 1, t0 = 1000) {
   const rng = new Rng(seed);
   const dt = (p.T * periods) / n;

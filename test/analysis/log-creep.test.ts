@@ -34,7 +34,7 @@ describe('fitLogCreep', () => {
   it('agrees with ml-levenberg-marquardt on the same data (independent optimiser)', () => {
     const { t, y } = series(2);
     const f = fitLogCreep(t, y, null, { t0_s: TRUE.t0 })!;
-    // LM in scaled units (µrad, ks) with an analytic Jacobian (TRAPS.md: absolute finite-difference step)
+    // LM in scaled units (µrad, ks) with an analytic Jacobian (docs/dependencies.md: absolute finite-difference step)
     const xs = t.map((v) => (v - TRUE.t0) / 1000);
     const ys = y.map((v) => v * 1e6);
     const model = ([th, a, tc]: number[]) => (x: number) => th + a * Math.log1p(x / tc);

@@ -2,7 +2,7 @@
  * The query commands of the built CLI (runs, show, windows, events, export,
  * fibres, fibre, report) against a real store made by `fibrewatch import` of
  * three simulated recordings (test/cli/store-fixture.ts). Field names and
- * semantics are CONTRACT.md's.
+ * semantics are docs/commands.md's.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mkdtempSync, readFileSync, rmSync, existsSync } from 'node:fs';
@@ -54,7 +54,7 @@ async function expectRuns(table: [string[], number[]][]): Promise<void> {
   table.forEach(([a, want], i) => expect(got[i], a.join(' ')).toEqual(want));
 }
 
-/** Fields of `fit --json` (CONTRACT.md) that a window row also carries. */
+/** Fields of `fit --json` (docs/commands.md) that a window row also carries. */
 const FIT_FIELDS = [
   'samples', 't_mid_s', 'period_s', 'period_sigma_s', 'decay_time_s', 'decay_time_sigma_s', 'q', 'q_sigma',
   'amplitude_rad', 'amplitude_sigma_rad', 'equilibrium_rad', 'equilibrium_sigma_rad', 'drift_rad_per_s',
@@ -180,7 +180,7 @@ describe('show', () => {
         expect(s.kappa_Nm_per_rad ?? null).toBeNull();
       }
       if (fr.hasGeometry && fr.hasInertia) {
-        // CONTRACT.md: G = 32·κ·L/(π·d⁴) (torsion of a round bar, textbook result)
+        // docs/commands.md: G = 32·κ·L/(π·d⁴) (torsion of a round bar, textbook result)
         const G = (32 * s.kappa_Nm_per_rad * W25.length_m) / (Math.PI * W25.diameter_m ** 4);
         expect(s.shear_modulus_Pa / G).toBeCloseTo(1, 9);
       } else {

@@ -1,5 +1,5 @@
 /**
- * The usage surface of the built CLI: exit statuses (CONTRACT.md: 0 success,
+ * The usage surface of the built CLI: exit statuses (docs/commands.md: 0 success,
  * 1 runtime failure, 2 bad usage / station / input with one line naming the
  * culprit), `import` dating and warnings, `simulate` to stdout, `ports`.
  */

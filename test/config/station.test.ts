@@ -1,5 +1,5 @@
 /**
- * The station file at its boundary: defaults are filled, the CONTRACT.md
+ * The station file at its boundary: defaults are filled, the docs/commands.md
  * example parses, and every wrong file is refused with a StationError whose
  * message and `field` name the offending key.
  */
@@ -9,7 +9,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { loadStation, parseStation, stationFromColumns, StationError } from '../../src/config/station.js';
 
-/** The example of CONTRACT.md ("The station file"), verbatim. */
+/** The example of docs/commands.md ("The station file"), verbatim. */
 const CONTRACT_EXAMPLE = {
   station: 'bench-a',
   fibre: { name: 'W25-lot7-03', material: 'tungsten', diameter_m: 2.5e-5, length_m: 0.8 },
@@ -86,7 +86,7 @@ describe('defaults', () => {
   });
 });
 
-describe('the CONTRACT.md example', () => {
+describe('the docs/commands.md example', () => {
   it('parses and keeps every value it gives', () => {
     const s = parseStation(CONTRACT_EXAMPLE);
     expect(s.station).toBe('bench-a');

@@ -14,7 +14,7 @@ function crcBitwise(bytes: Uint8Array): number {
 describe('crc16CcittFalse', () => {
   it('gives the published check value for "123456789"', () => {
     // Check value 0x29B1 of CRC-16/CCITT-FALSE (a.k.a. CRC-16/IBM-3740) in the
-    // catalogue of parametrised CRC algorithms (reveng.sourceforge.io/crc-catalogue); also WIRE.md
+    // catalogue of parametrised CRC algorithms (reveng.sourceforge.io/crc-catalogue); also docs/wire.md
     expect(crc16CcittFalse(new TextEncoder().encode('123456789'))).toBe(0x29b1);
   });
 

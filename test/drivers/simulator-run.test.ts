@@ -198,7 +198,7 @@ describe('simulator onto the wire', () => {
       await new Promise<void>((res, rej) => port.on('open', res).on('error', rej));
       const chunks: Buffer[] = [];
       port.on('data', (c: Buffer) => chunks.push(c));
-      // the writing end runs in its own process (TRAPS.md: socat ptys, drive the writer from another process)
+      // the writing end runs in its own process (docs/dependencies.md: socat ptys, drive the writer from another process)
       const code = `import { runSimulator } from './drivers/simulator/run-simulator.ts';
 import { loadScenario } from './drivers/simulator/scenario.ts';
 const sc = loadScenario(${JSON.stringify(join(scenarios, 'encoder-fast.json'))});

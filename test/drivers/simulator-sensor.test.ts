@@ -70,7 +70,7 @@ describe('simulated detectors', () => {
     expect(x_m![1]).toBeCloseTo(Math.tan(-4e-3), 15);
     expect(x_m![2]).toBe(5e-3);
     const ab = sensorChannels(theta, sensor, new Rng(1), ['t_s', 'a', 'b']);
-    // lateral-effect PSD: x = h·(a − b)/(a + b) (DOMAIN.md)
+    // lateral-effect PSD: x = h·(a − b)/(a + b) (docs/physics.md)
     expect(5e-3 * (ab.a![0] - ab.b![0]) / (ab.a![0] + ab.b![0])).toBeCloseTo(x_m![0], 15);
     expect(ab.x_m).toBeUndefined();
   });

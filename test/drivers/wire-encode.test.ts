@@ -60,7 +60,7 @@ describe('encodeLines', () => {
 });
 
 describe('encodeFrames', () => {
-  it('lays a frame out as WIRE.md says', () => {
+  it('lays a frame out as docs/wire.md says', () => {
     const f = encodeFrames(0x1234, Float64Array.of(2 ** 32 + 5), [Int32Array.of(-2)]);
     expect(f.length).toBe(16);
     // sync, version, channel count, seq LE, µs LE (wrapped to u32), value LE

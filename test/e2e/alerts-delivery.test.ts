@@ -98,7 +98,7 @@ describe('alert delivery end to end (import → webhook and command)', () => {
     for (const kind of ['period-drift', 'equilibrium-drift']) {
       expect(received.filter((a) => a.kind === kind).map(key)).toEqual(alerts.filter((a) => a.kind === kind).map(key));
     }
-    // the delivered document: CONTRACT.md event fields plus run and station; t is ISO UTC = started_at + t_s
+    // the delivered document: docs/commands.md event fields plus run and station; t is ISO UTC = started_at + t_s
     for (const a of received) {
       expect(a.run).toBe(run);
       expect(a.station).toBe('alerts-bench');

@@ -23,7 +23,7 @@ export async function simulateToFile(dir: string, sc: ScenarioInput, seed: numbe
   return file;
 }
 
-/** Alert thresholds at CONTRACT.md's example values (5e-6 rad/h, 300 ppm). */
+/** Alert thresholds at docs/commands.md's example values (5e-6 rad/h, 300 ppm). */
 export const REALISTIC_ALERTS = { equilibrium_rate_rad_per_hour: 5e-6, period_change_ppm: 300, no_data_s: 20 };
 
 /** The station of the quiet-week balance, reading t_s, angle_rad, temp_C lines, with extra alerts settings. */
@@ -41,7 +41,7 @@ export function writeStation(dir: string, alerts: Record<string, unknown> = {}, 
   return p;
 }
 
-/** One event as `fibrewatch events --json` prints it (CONTRACT.md). */
+/** One event as `fibrewatch events --json` prints it (docs/commands.md). */
 export interface EventJson {
   t: string;
   t_s: number;

@@ -21,7 +21,7 @@ const fitJson = (args: string[]) => {
   return { ...r, rows: r.stdout.trim() ? r.stdout.trim().split('\n').map((l) => JSON.parse(l)) : [] };
 };
 
-/** Damped period of the simulated oscillator: ω_d = ω₀·√(1 − 1/(4Q²)) (DOMAIN.md, standard result). */
+/** Damped period of the simulated oscillator: ω_d = ω₀·√(1 − 1/(4Q²)) (docs/physics.md, standard result). */
 const dampedPeriod = (I: number, kappa: number, q: number) => (2 * Math.PI) / (Math.sqrt(kappa / I) * Math.sqrt(1 - 1 / (4 * q * q)));
 
 describe('fit on encoder data of 1, 3 and 10 full turns (isochronism)', () => {

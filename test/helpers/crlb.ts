@@ -68,7 +68,7 @@ export function fisherBound(t: Float64Array, truth: DampedSineTruth, sigma: numb
  *
  * 'complex' is their setting, a complex tone A·e^(i(ωt+φ)) with noise of
  * variance σ² in each of the real and imaginary parts:
- * var ≥ 12σ²/(A²Δt²N(N²−1)) (the form quoted in DOMAIN.md).
+ * var ≥ 12σ²/(A²Δt²N(N²−1)) (the form quoted in docs/physics.md).
  * 'real' (default), a real tone A·cos(ωt+φ) in real noise of variance σ²,
  * carries half the signal energy, so the bound doubles:
  * var ≥ 24σ²/(A²Δt²N(N²−1)) (Kay 1993, Example 3.14 with η = A²/(2σ²), from

@@ -1,6 +1,6 @@
 // The writing end of a test pseudo-terminal, run as its own process: writing
 // to a pty synchronously from the process that also reads the other end can
-// deadlock (TRAPS.md), so tests drive the feed side from here.
+// deadlock (docs/dependencies.md), so tests drive the feed side from here.
 //
 // usage: node pty-writer.mjs FEED_PATH '{"start":0,"count":1000,"rate_per_s":0,"waitGo":false}'
 //   start       first line index (default 0)

@@ -12,6 +12,9 @@ function collect(o: Observable<WindowData>): { w: WindowData[]; completed: boole
   return r;
 }
 
+/** True when the window spans less than `periods` periods of its period hint (samples 0.5 s apart, as `record` makes them). */
+const short = (w: WindowData, periods: number): boolean => w.t_end_s - w.t_start_s < periods * w.periodHint_s - 0.5 - 1e-9;
+
 /** 2 Hz samples of a 10 s swing; optional gap of `gap_s` before sample `gapAt` (marked as clean would). */
 function record(N: number, gapAt = -1, gap_s = 0) {
   const t = new Float64Array(N).map((_, i) => i * 0.5 + (gapAt >= 0 && i >= gapAt ? gap_s : 0));
@@ -22,12 +25,13 @@ function record(N: number, gapAt = -1, gap_s = 0) {
 }
 
 describe('slidingWindows', () => {
-  it('cuts windows of W periods every S periods, then flushes a partial one at completion', () => {
+  it('cuts windows of W periods every S periods, then flushes the open one at completion', () => {
     const r = record(400); // t = 0 … 199.5 s
     const out = collect(from(blocks(r.t, r.y, r.flags, [64])).pipe(slidingWindows({ windowPeriods: 4, stepPeriods: 1, period$: () => 10 })));
     expect(out.completed).toBe(true);
-    const full = out.w.filter((w) => !w.partial);
-    expect(full.map((w) => w.t_start_s)).toEqual(Array.from({ length: 16 }, (_, k) => 10 * k));
+    const full = out.w.filter((w) => !short(w, 4));
+    // the window from 160 s holds its 80 samples but no later sample closes it: emitted by the flush at completion
+    expect(full.map((w) => w.t_start_s)).toEqual(Array.from({ length: 17 }, (_, k) => 10 * k));
     for (const w of full) {
       expect(w.y.length).toBe(80);
       expect(w.t_end_s).toBe(w.t_start_s + 39.5);
@@ -37,9 +41,10 @@ describe('slidingWindows', () => {
     }
     expect(out.w.map((w) => w.index)).toEqual(out.w.map((_, i) => i));
     const last = out.w[out.w.length - 1];
-    expect(last.partial).toBe(true);
     expect(last.t_start_s).toBe(160);
     expect(last.t_end_s).toBe(199.5);
+    // the flush emits only the open window: none starts after 160 s
+    expect(out.w.length).toBe(17);
   });
 
   it('gives the same windows whatever the block boundaries', () => {
@@ -56,7 +61,7 @@ describe('slidingWindows', () => {
       for (let k = 0; k < ref.length; k++) {
         expect(got[k].t).toEqual(ref[k].t);
         expect(got[k].y).toEqual(ref[k].y);
-        expect(got[k].partial).toBe(ref[k].partial);
+        expect(got[k].t_end_s).toBe(ref[k].t_end_s);
       }
     }
   });
@@ -66,34 +71,32 @@ describe('slidingWindows', () => {
     const out = collect(from(blocks(r.t, r.y, r.flags, [37])).pipe(slidingWindows({ windowPeriods: 4, stepPeriods: 1, period$: () => 10 }))).w;
     for (const w of out) expect(w.t_end_s < 100 || w.t_start_s >= 130).toBe(true);
     const before = out.filter((w) => w.t_end_s < 100);
-    expect(before.map((w) => [w.t_start_s, w.partial])).toEqual([[0, false], [10, false], [20, false], [30, false], [40, false], [50, false], [60, true]]);
+    expect(before.map((w) => [w.t_start_s, short(w, 4)])).toEqual([[0, false], [10, false], [20, false], [30, false], [40, false], [50, false], [60, false]]);
     const after = out.filter((w) => w.t_start_s >= 130);
     expect(after[0].t_start_s).toBe(130);
     expect(after[1].t_start_s).toBe(140);
   });
 
-  it('buffers until the first estimate gives a period, and keeps it afterwards', () => {
+  it('holds the stretch until a period is known, then cuts from its first sample', () => {
     const r = record(400);
-    const calls: number[] = [];
-    let sawMask = false;
-    const out = collect(from(blocks(r.t, r.y, r.flags, [25])).pipe(slidingWindows({
-      windowPeriods: 2,
-      stepPeriods: 2,
-      minPeriods: 1.5,
-      period$: () => undefined,
-      firstEstimate: (t, y, mask) => {
-        calls.push(t.length);
-        sawMask = mask.length === t.length && y.length === t.length;
-        return t[t.length - 1] - t[0] >= 60 ? 10 : undefined; // "enough data": one minute
-      },
-    }))).w;
-    expect(sawMask).toBe(true);
-    // called on the growing stretch until it answered (60 s = 121 samples → the 5th block of 25)
-    expect(calls).toEqual([25, 50, 75, 100, 125]);
+    let period: number | undefined;
+    const src = new Subject<AngleBlock>();
+    const out: WindowData[] = [];
+    let completed = false;
+    src.pipe(slidingWindows({ windowPeriods: 2, stepPeriods: 2, minPeriods: 1.5, period$: () => period }))
+      .subscribe({ next: (w) => out.push(w), complete: () => (completed = true) });
+    const bs = blocks(r.t, r.y, r.flags, [25]);
+    for (let k = 0; k < 5; k++) src.next(bs[k]); // 62 s held, no period yet
+    expect(out).toEqual([]);
+    period = 10;
+    for (let k = 5; k < bs.length; k++) src.next(bs[k]);
+    src.complete();
+    expect(completed).toBe(true);
     expect(out[0].t_start_s).toBe(0);
-    expect(out.filter((w) => !w.partial).map((w) => w.t_start_s)).toEqual(Array.from({ length: 9 }, (_, k) => 20 * k));
-    // the last 20 s lack the sample that closes them: flushed partial at completion
-    expect(out[out.length - 1]).toMatchObject({ t_start_s: 180, t_end_s: 199.5, partial: true });
+    expect(out.map((w) => w.t_start_s)).toEqual(Array.from({ length: 10 }, (_, k) => 20 * k));
+    expect(out.every((w) => !short(w, 2))).toBe(true);
+    // the last 20 s lack the sample that closes them: flushed at completion
+    expect(out[out.length - 1]).toMatchObject({ t_start_s: 180, t_end_s: 199.5 });
   });
 
   it('caps memory while no period is known: the oldest samples go', () => {
@@ -109,15 +112,15 @@ describe('slidingWindows', () => {
     for (let k = 30; k < bs.length; k++) src.next(bs[k]);
     // only the last 100 samples before the period arrived were kept: windows begin at sample 1400
     expect(got[0].t_start_s).toBe(1400 * 0.5);
-    expect(got[0].partial).toBe(false);
+    expect(short(got[0], 4)).toBe(false);
   });
 
-  it('cuts a window partial when it would exceed maxSamples, rather than stall', () => {
+  it('cuts a window short when it would exceed maxSamples, rather than stall', () => {
     const r = record(600);
     const out = collect(from(blocks(r.t, r.y, r.flags, [16])).pipe(slidingWindows({ windowPeriods: 8, stepPeriods: 8, period$: () => 10, maxSamples: 100 }))).w;
     expect(out.length).toBeGreaterThan(0);
     for (const w of out) expect(w.y.length).toBeLessThanOrEqual(116);
-    expect(out[0].partial).toBe(true);
+    expect(short(out[0], 8)).toBe(true);
   });
 
   it('masks saturated and spike samples, carries temperature and the running period', () => {
@@ -160,5 +163,6 @@ describe('slidingWindows', () => {
     expect(() => slidingWindows({ windowPeriods: 0, stepPeriods: 1, period$: () => 1 })).toThrow(/windowPeriods/);
     expect(() => slidingWindows({ windowPeriods: 2, stepPeriods: 3, period$: () => 1 })).toThrow(/stepPeriods/);
     expect(() => slidingWindows({ windowPeriods: 2, stepPeriods: 1, period$: () => 1, maxSamples: 2 })).toThrow(/maxSamples/);
+    expect(() => slidingWindows({ windowPeriods: 2, stepPeriods: 1, period$: () => 1, firstIndex: -1 })).toThrow(/firstIndex/);
   });
 });

@@ -14,7 +14,7 @@ import { csv } from '../../display/format.js';
 import { openForQuery } from '../store.js';
 import { WINDOW_COLUMNS, windowRows } from './windows.js';
 
-/** Columns of an events export, in order (CONTRACT.md's event fields, then state and data). */
+/** Columns of an events export, in order (docs/commands.md's event fields, then state and data). */
 const EVENT_COLUMNS = ['t', 't_s', 'kind', 'severity', 'message', 'value', 'threshold', 'state', 'data'];
 /** The reader went away (`… | head`): stop quietly, as command-line tools do. */
 class ReaderGone extends Error {}

@@ -9,7 +9,7 @@ import { withQueryStore } from '../store.js';
 /** Columns of a window row, in order (used for the CSV header when a run has no windows yet). */
 export const WINDOW_COLUMNS: string[] = [...WINDOW_FIELDS, 't_mid'];
 
-/** Window rows as CONTRACT.md lists them: the fit fields plus `t_mid` (ISO) and `status`. */
+/** Window rows as docs/commands.md lists them: the fit fields plus `t_mid` (ISO) and `status`. */
 export function windowRows(ws: WindowResult[], startedAt_ms: number): Record<string, unknown>[] {
   return ws.map((w) => ({ ...w, t_mid: new Date(startedAt_ms + w.t_mid_s * 1000).toISOString() }));
 }

@@ -1,17 +1,20 @@
 /**
- * Reconnect delays: capped exponential backoff with "equal jitter".
+ * Retry delays: capped exponential backoff with "equal jitter", the one
+ * backoff of the project (serial reconnects in drivers/serial-transport.ts,
+ * alert deliveries in src/alerts/delivery-queue.ts).
  *
  * Why jitter: several recorders (or one recorder and a udev rule) retrying a
- * port in lock-step keep colliding; a random share of each delay spreads them.
+ * port, or several stations posting to one receiver that comes back, retry in
+ * lock-step and keep colliding; a random share of each delay spreads them.
  * Scheme as in M. Brooker, "Exponential Backoff And Jitter", AWS Architecture
  * Blog (2015), "equal jitter" variant: half the capped delay fixed, half
  * random. We also never go below `min_s`, so the first retry is not instant.
  */
 
 /**
- * Delay in seconds before reconnect attempt number `attempt` (0 = first retry).
+ * Delay in seconds before retry number `attempt` (0 = first retry).
  *
- * @param attempt retries already made since the outage began, integer ≥ 0
+ * @param attempt retries already made (since the outage began, or for this item), integer ≥ 0
  * @param min_s   shortest delay, seconds (> 0)
  * @param max_s   cap on the delay, seconds (≥ min_s)
  * @param rand    uniform random number in [0, 1) (pass a seeded source in tests)

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { nextDelay } from '../../drivers/backoff.js';
+import { nextDelay } from '../../src/domain/backoff.js';
+import { rng } from '../helpers/blocks.js';
 
 // Reference scheme: M. Brooker, "Exponential Backoff And Jitter", AWS
 // Architecture Blog (2015), "equal jitter": temp = min(cap, base·2^attempt),
@@ -9,17 +10,6 @@ function equalJitter(attempt: number, base: number, cap: number, r: number): num
   return temp / 2 + r * (temp / 2);
 }
 
-/** Small seeded generator (mulberry32) so the property test is reproducible. */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 describe('nextDelay', () => {
   it('starts at the minimum and doubles the upper end until the cap', () => {
@@ -35,7 +25,7 @@ describe('nextDelay', () => {
   });
 
   it('matches the equal-jitter formula above the floor and stays within [min, max]', () => {
-    const rand = mulberry32(12345);
+    const rand = rng(12345);
     let lo = Infinity;
     let hi = -Infinity;
     let worst = 0;

@@ -1,0 +1,215 @@
+/**
+ * The part of a window's uncertainty that its residuals cannot show: noise
+ * that drives the oscillator itself (thermal torque noise, and any other
+ * torque noise near the resonance).
+ *
+ * A torque noise near the resonance kicks the swing's complex amplitude
+ * Z = A·e^{iφ} about at random: Z diffuses, E|ΔZ|² = D·Δt. For A far above the
+ * noise this is a random walk of the phase and of ln A, each with diffusion
+ * D/(2A²) rad²/s (for thermal torque noise D = 4·k_B·T·γ/κ, the
+ * fluctuation–dissipation value, so D_φ = 2·k_B·T/(κ·τ·A²)). A window's fit
+ * takes the phase walk for a change of frequency and the amplitude walk for a
+ * change of decay rate, and both leave nothing in the residuals. The least-
+ * squares slope of a random walk of diffusion D_φ over a span W has variance
+ * 6·D_φ/(5·W) (the slope's weight kernel integrated against the walk's
+ * covariance min(s, u); standard least squares, worked here), so
+ *
+ *   var(ω) += (3/5)·D/(A²·W),   var(T) += (T²/2π)²·(3/5)·D/(A²·W),
+ *   var(γ) += (3/5)·D/(A²·W).
+ *
+ * The same torque noise moves the equilibrium: below the resonance the angle
+ * follows it, with a one-sided spectrum S_θ(f) = S_τ(f)/κ². For white torque
+ * noise (viscous damping) S_θ = 2·D/ω₀², and the window's mean angle varies by
+ * D/(ω₀²·W); for a loss angle constant in frequency (internal damping) S_τ
+ * grows as 1/f and, at the window's own time scale f = 1/W, S_θ is larger by
+ * f₀·W: var(θ_eq) += D·f₀/ω₀² (see docs/analysis.md).
+ *
+ * D is measured on the run's own windows, not assumed: second differences of
+ * the periods (and, separately, of the decay rates) of non-overlapping windows
+ * spaced one window length apart, x_k − 2·x_{k+m} + x_{k+2m}, have variance
+ * v_k + 4·v_{k+m} + v_{k+2m} with v = σ_fit² + D·g (g the shape above), since
+ * disjoint windows see independent readout noise and independent stretches of
+ * the walk, and a linear drift (a slow temperature change, creep) cancels.
+ * D is the value that makes d²/var look like χ²₁ over the recent triplets
+ * (robustly: see solveDiffusion), so the few triplets a bump or a step spoils
+ * do not move it. Before enough triplets exist, the fluctuation–dissipation
+ * value stands in when κ is known.
+ */
+
+/** k_B, J/K (exact, SI 2019) — kept here so the numerics need nothing of the app. */
+const K_B = 1.380649e-23;
+/** median of χ² with one degree of freedom */
+const CHI2_1_MEDIAN = 0.454936423119572;
+/** E[χ²₁ | χ²₁ < 9] */
+const TRUNCATED_MEAN_3SIGMA = 0.97333;
+const TWO_PI = 2 * Math.PI;
+
+/** The fluctuation–dissipation diffusion of the complex amplitude, D = 4·k_B·T·γ/κ (rad²/s). */
+export function thermalDiffusion(temperature_K: number, kappa_Nm_per_rad: number, decayRate_per_s: number): number {
+  return (4 * K_B * temperature_K * Math.max(decayRate_per_s, 0)) / kappa_Nm_per_rad;
+}
+
+/** What a window contributes: its fitted values and their fit-only (readout) standard errors. */
+export interface DiffusionSample {
+  t_mid_s: number;
+  /** span of the window, s */
+  span_s: number;
+  period_s: number;
+  period_fit_sigma_s: number;
+  decay_rate_per_s: number;
+  decay_rate_fit_sigma_per_s: number;
+  amplitude_rad: number;
+}
+
+/** The extra variances of a window for a diffusion D. */
+export interface ExtraVariance {
+  period_s2: number;
+  decay_rate_per_s2: number;
+  equilibrium_rad2: number;
+}
+
+/** Shape factors g with var = D·g. */
+function periodShape(period_s: number, amplitude_rad: number, span_s: number): number {
+  const c = (period_s * period_s) / TWO_PI;
+  return (c * c * 0.6) / (amplitude_rad * amplitude_rad * span_s);
+}
+function rateShape(amplitude_rad: number, span_s: number): number {
+  return 0.6 / (amplitude_rad * amplitude_rad * span_s);
+}
+
+/** The damping model, for the equilibrium term. */
+export type Damping = 'internal' | 'viscous';
+
+/** Extra variances of a window's period, decay rate and equilibrium for diffusions dPeriod (from periods), dRate (from decay rates). */
+export function extraVariance(dPeriod: number, dRate: number, w: { period_s: number; amplitude_rad: number; span_s: number }, damping: Damping): ExtraVariance {
+  const w0 = TWO_PI / w.period_s;
+  const eqShape = damping === 'viscous' ? 1 / (w0 * w0 * w.span_s) : 1 / (w0 * w0 * w.period_s);
+  return {
+    period_s2: dPeriod * periodShape(w.period_s, w.amplitude_rad, w.span_s),
+    decay_rate_per_s2: dRate * rateShape(w.amplitude_rad, w.span_s),
+    equilibrium_rad2: dPeriod * eqShape,
+  };
+}
+
+/** Options of DiffusionEstimator. */
+export interface DiffusionEstimatorOptions {
+  /** triplets kept, the most recent (default 480: D to about ±11 %) */
+  maxTriplets?: number;
+  /** fewest triplets for an estimate of its own (default 8) */
+  minTriplets?: number;
+}
+
+interface Triplet {
+  d: number;
+  fit: number;
+  shape: number;
+}
+
+/** The value of D ≥ 0 at which stat(D) — decreasing in D — falls to target. */
+function solveFor(stat: (D: number) => number, target: number, ts: readonly Triplet[]): number {
+  if (stat(0) <= target) return 0;
+  // a scale for D: what one triplet alone would need
+  let hi = 0;
+  for (const t of ts) if (t.shape > 0) hi = Math.max(hi, (t.d * t.d) / t.shape);
+  if (!(hi > 0)) return 0;
+  let lo = 0;
+  while (stat(hi) > target) hi *= 4;
+  // bisection, geometric once a lower bound is found
+  for (let i = 0; i < 80 && hi - lo > 1e-6 * hi; i++) {
+    const mid = lo > 0 ? Math.sqrt(lo * hi) : hi / 1024;
+    if (stat(mid) > target) lo = mid;
+    else hi = mid;
+  }
+  return 0.5 * (lo + hi);
+}
+
+/**
+ * D from triplets, robust and nearly as efficient as a mean: first the D that
+ * makes the median of r = d²/(fit + D·shape) the χ²₁ median; then, leaving out
+ * the triplets with r > 9 there (beyond 3σ: a bump, a step), the D that makes
+ * the mean of r over the rest E[χ²₁ | χ²₁ < 9] = 0.97333 (for a unit normal z:
+ * (P(|z|<3) − 6·φ(3))/P(|z|<3), with P = 0.99730 and φ(3) = 0.0044318).
+ */
+function solveDiffusion(ts: readonly Triplet[]): number {
+  const r = (t: Triplet, D: number) => (t.d * t.d) / (t.fit + D * t.shape);
+  const median = (D: number): number => {
+    const v = ts.map((t) => r(t, D)).sort((a, b) => a - b);
+    const h = v.length >> 1;
+    return v.length & 1 ? v[h] : 0.5 * (v[h - 1] + v[h]);
+  };
+  const d0 = solveFor(median, CHI2_1_MEDIAN, ts);
+  const kept = ts.filter((t) => r(t, d0) < 9);
+  if (kept.length < ts.length / 2) return d0;
+  const mean = (D: number): number => kept.reduce((a, t) => a + r(t, D), 0) / kept.length;
+  return solveFor(mean, TRUNCATED_MEAN_3SIGMA, kept);
+}
+
+/**
+ * Measures the diffusion D of the swing's complex amplitude from a run's
+ * windows as they come (see the file comment). Push every accepted window in
+ * time order. A data gap needs nothing special: the walk goes on while no data
+ * come, and windows whose spacing is not one window length form no triplet.
+ */
+export class DiffusionEstimator {
+  private readonly history: DiffusionSample[] = [];
+  private readonly periodTriplets: Triplet[] = [];
+  private readonly rateTriplets: Triplet[] = [];
+  private readonly maxTriplets: number;
+  private readonly minTriplets: number;
+  private cache: { period: number; rate: number } | null = null;
+
+  constructor(opts: DiffusionEstimatorOptions = {}) {
+    this.maxTriplets = opts.maxTriplets ?? 480;
+    this.minTriplets = opts.minTriplets ?? 8;
+  }
+
+  /** Triplets gathered so far (at most maxTriplets). */
+  get triplets(): number {
+    return this.periodTriplets.length;
+  }
+
+  /** D from the periods and from the decay rates, rad²/s; undefined until minTriplets exist. */
+  estimate(): { period: number; rate: number } | undefined {
+    if (this.periodTriplets.length < this.minTriplets) return undefined;
+    this.cache ??= { period: solveDiffusion(this.periodTriplets), rate: solveDiffusion(this.rateTriplets) };
+    return this.cache;
+  }
+
+  /** Add a window; forms the triplet that ends at it when its two predecessors one and two window lengths back exist. */
+  push(s: DiffusionSample): void {
+    const h = this.history;
+    const j1 = this.partner(s, s.span_s);
+    const j2 = j1 ? this.partner(s, 2 * s.span_s) : undefined;
+    if (j1 && j2) {
+      const add = (list: Triplet[], t: Triplet) => {
+        list.push(t);
+        if (list.length > this.maxTriplets) list.shift();
+      };
+      add(this.periodTriplets, {
+        d: j2.period_s - 2 * j1.period_s + s.period_s,
+        fit: j2.period_fit_sigma_s ** 2 + 4 * j1.period_fit_sigma_s ** 2 + s.period_fit_sigma_s ** 2,
+        shape: periodShape(j2.period_s, j2.amplitude_rad, j2.span_s) + 4 * periodShape(j1.period_s, j1.amplitude_rad, j1.span_s) + periodShape(s.period_s, s.amplitude_rad, s.span_s),
+      });
+      add(this.rateTriplets, {
+        d: j2.decay_rate_per_s - 2 * j1.decay_rate_per_s + s.decay_rate_per_s,
+        fit: j2.decay_rate_fit_sigma_per_s ** 2 + 4 * j1.decay_rate_fit_sigma_per_s ** 2 + s.decay_rate_fit_sigma_per_s ** 2,
+        shape: rateShape(j2.amplitude_rad, j2.span_s) + 4 * rateShape(j1.amplitude_rad, j1.span_s) + rateShape(s.amplitude_rad, s.span_s),
+      });
+      this.cache = null;
+    }
+    h.push(s);
+    // keep a little more than two window lengths of history
+    while (h.length > 2 && h[0].t_mid_s < s.t_mid_s - 2.5 * s.span_s) h.shift();
+  }
+
+  /** The held window whose middle is `lag` before s's, within a quarter of a window step. */
+  private partner(s: DiffusionSample, lag: number): DiffusionSample | undefined {
+    let best: DiffusionSample | undefined;
+    let bestErr = Infinity;
+    for (const w of this.history) {
+      const err = Math.abs(s.t_mid_s - w.t_mid_s - lag);
+      if (err < bestErr) { bestErr = err; best = w; }
+    }
+    return best && bestErr <= 0.125 * s.span_s ? best : undefined;
+  }
+}
