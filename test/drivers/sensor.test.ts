@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import stdlibErf from '@stdlib/math-base-special-erf';
 import { FLAG_INVALID, FLAG_SATURATED, type RawBlock, type ValueRole } from '../../src/domain/block.js';
 import { makeConverter } from '../../drivers/sensor.js';
+import { beamHalves } from '../helpers/gaussian-beam.js';
 
 function block(channels: Partial<Record<ValueRole, number[]>>): RawBlock {
   const n = Object.values(channels)[0]!.length;
@@ -100,22 +101,11 @@ describe('makeConverter: split photodiode', () => {
   });
 
   it('matches the Gaussian-beam model integrated numerically over the two halves', () => {
-    // intensity I(u) ∝ exp(−2(u − x)²/w²) for a beam of 1/e² radius w centred at x;
-    // a = ∫ over u > 0, b = ∫ over u < 0, by composite Simpson on ±8w (tails below 1e-50)
-    const integrate = (x: number, lo: number, hi: number) => {
-      const m = 4000;
-      const h = (hi - lo) / m;
-      let s = 0;
-      for (let k = 0; k <= m; k++) {
-        const u = lo + k * h;
-        const f = Math.exp((-2 * (u - x) ** 2) / (w * w));
-        s += f * (k === 0 || k === m ? 1 : k % 2 ? 4 : 2);
-      }
-      return (s * h) / 3;
-    };
+    // the halves of a Gaussian beam of 1/e² radius w centred at x, integrated numerically (test/helpers/gaussian-beam.ts)
     const xs = [-7e-4, -2.5e-4, 1e-5, 3e-4, 8e-4];
-    const a = xs.map((x) => integrate(x, 0, x + 8 * w));
-    const b = xs.map((x) => integrate(x, x - 8 * w, 0));
+    const halves = xs.map((x) => beamHalves(x, w));
+    const a = halves.map((h) => h.a);
+    const b = halves.map((h) => h.b);
     const out = makeConverter(sensor)(block({ a, b }));
     xs.forEach((x, i) => {
       const theta = 0.5 * Math.atan(x / D);
