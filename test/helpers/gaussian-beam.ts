@@ -6,7 +6,7 @@
  */
 
 /** ∫ exp(−2(u − x)²/w²) du over [lo, hi] by composite Simpson with m intervals. */
-function integrate(x: number, w: number, lo: number, hi: number, m = 4000): number {
+function integrate(x: number, w: number, lo: number, hi: number, m = 20000): number {
   const h = (hi - lo) / m;
   let s = 0;
   for (let k = 0; k <= m; k++) {
