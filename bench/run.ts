@@ -14,6 +14,10 @@ const BENCHES: Bench[] = [
   { name: 'condition', file: './condition.js', fn: 'benchCondition' },
   { name: 'import', file: './import.js', fn: 'benchImport' },
   { name: 'watch', file: './watch.js', fn: 'benchWatch' },
+  { name: 'replug', file: './replug.js', fn: 'benchReplug' },
+  { name: 'soak', file: './soak.js', fn: 'benchSoak' },
+  { name: 'noise', file: './noise.js', fn: 'benchNoise' },
+  { name: 'sigma', file: './sigma-map.js', fn: 'benchSigmaMap' },
 ];
 
 async function main(): Promise<void> {

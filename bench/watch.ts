@@ -104,7 +104,7 @@ export function simulateWindowSeries(o: WindowSeriesOptions): WindowResult[] {
     if (outlier > 0 && rnd.u() < outlier) { eq += 50 * sEq * (rnd.u() < 0.5 ? -1 : 1); p *= 1 + 30e-6 * (rnd.u() < 0.5 ? -1 : 1); }
     out.push({
       index: i, t_start_s: i * T, t_mid_s: (i + L / 2) * T, t_end_s: (i + L) * T, samples: L * 200, status: 'ok',
-      period_s: p, period_sigma_s: p * sP, decay_time_s: 3.6e4, decay_time_sigma_s: 50, q: 1900, q_sigma: 3,
+      period_s: p, period_sigma_s: p * sP, decay_time_s: 3.6e4, decay_time_sigma_s: 50, decay_rate_per_s: 1 / 3.6e4, decay_rate_sigma_per_s: 50 / 3.6e4 ** 2, q: 1900, q_sigma: 3,
       amplitude_rad: 1e-3, amplitude_sigma_rad: 1e-7, equilibrium_rad: eq, equilibrium_sigma_rad: sEq,
       drift_rad_per_s: 0, drift_sigma_rad_per_s: 1e-10, phase_rad: 0, residual_rms_rad: 1e-6, chi2_red: 1,
       kappa_Nm_per_rad: null, kappa_sigma_Nm_per_rad: null, shear_modulus_Pa: null, shear_modulus_sigma_Pa: null,
@@ -201,7 +201,7 @@ export async function benchWatchWindows(opts: { runs?: number; quietRuns?: numbe
  * simulated into a file and imported (decoder → store → clean → condition →
  * window → fit → watchers), a few runs each.
  */
-export async function benchWatchPipeline(opts: { runs?: number; quietWeeks?: number } = {}) {
+export async function benchWatchPipeline(opts: { runs?: number; quietWeeks?: number; thermalWeeks?: number } = {}) {
   const runs = opts.runs ?? 4;
   const quietWeeks = opts.quietWeeks ?? 2;
   const thr = 5e-6 / 3600;
@@ -215,12 +215,12 @@ export async function benchWatchPipeline(opts: { runs?: number; quietWeeks?: num
     alerts: { equilibrium_rate_rad_per_hour: 5e-6, period_change_ppm: 300, stderr: false },
   });
   let n = 0;
-  const oneRun = async (sc: ScenarioInput, seed: number) => {
+  const oneRun = async (sc: ScenarioInput, seed: number, st = station) => {
     const file = join(dir, `run-${n}.csv`);
     const db = openStore(join(dir, `run-${n++}.db`));
     try {
       await runSimulator({ scenario: parseScenario(sc), out: file, speed: 0, seed });
-      const { runId } = await importFile(db, station, file, { startedAt_ms: Date.UTC(2026, 0, 5) });
+      const { runId } = await importFile(db, st, file, { startedAt_ms: Date.UTC(2026, 0, 5) });
       return { events: listEvents(db, runId), windows: listWindows(db, runId) };
     } finally {
       db.close();
@@ -255,6 +255,29 @@ export async function benchWatchPipeline(opts: { runs?: number; quietWeeks?: num
       const q = await oneRun({ ...base, name: `quiet-${r}` }, 300 + r);
       quietAlerts += q.events.filter((e) => (e.kind === 'equilibrium-drift' || e.kind === 'period-drift') && e.state === 'raised').length;
     }
+    // a thermal-noise-limited balance (T ≈ 60 s, Q 2000, readout 1e-8 rad, 10 Hz), where the window σ's are
+    // dominated by the thermally driven phase walk: the watchers must not read that walk as drift
+    let thermalAlerts = 0;
+    const thermalWeeks = opts.thermalWeeks ?? 2;
+    const I = 1e-5;
+    const thermalBase: ScenarioInput = {
+      name: 'thermal-limited', duration_s: 7 * 86400, sample_rate_Hz: 10, inertia_kg_m2: I, kappa_Nm_per_rad: I * (2 * Math.PI / 60) ** 2,
+      q: 2000, temperature_K: 295, thermal_noise: true, angle_noise_rad: 1e-8, initial: { amplitude_rad: 2e-3 },
+      output: { format: 'lines', columns: ['t_s', 'angle_rad'] },
+    };
+    const thermalStation = parseStation({ ...JSON.parse(JSON.stringify(station)), station: 'bench-thermal', pendulum: { inertia_kg_m2: I }, input: { format: 'lines', columns: ['t_s', 'angle_rad'] } });
+    let thermalPullSd = NaN;
+    for (let r = 0; r < thermalWeeks; r++) {
+      const q = await oneRun({ ...thermalBase, name: `thermal-${r}` }, 400 + r, thermalStation);
+      thermalAlerts += q.events.filter((e) => (e.kind === 'equilibrium-drift' || e.kind === 'period-drift') && e.state === 'raised').length;
+      if (r === 0) {
+        const T = 2 * Math.PI / Math.sqrt((I * (2 * Math.PI / 60) ** 2) / I - (Math.PI / (60 * 2000)) ** 2);
+        const p: number[] = [];
+        for (let i = 0; i < q.windows.length; i += 4) { const w = q.windows[i]; if (w.status === 'ok') p.push((w.period_s! - T) / w.period_sigma_s!); }
+        const m = p.reduce((a, b) => a + b, 0) / p.length;
+        thermalPullSd = Math.sqrt(p.reduce((a, b) => a + (b - m) ** 2, 0) / (p.length - 1));
+      }
+    }
     const res = {
       runs,
       window_equilibrium_sigma_rad: eqSigma / eqN,
@@ -267,12 +290,16 @@ export async function benchWatchPipeline(opts: { runs?: number; quietWeeks?: num
       step_missed: stepMissed,
       quiet_days: quietWeeks * 7,
       false_alarms_per_day: quietAlerts / (quietWeeks * 7),
+      thermal_quiet_days: thermalWeeks * 7,
+      thermal_false_alarms_per_day: thermalAlerts / (thermalWeeks * 7),
+      thermal_period_pull_sd: thermalPullSd,
       elapsed_s: (Date.now() - t0) / 1000,
     };
     console.log(`watch bench through the pipeline (quiet-week balance: T ≈ 429 s, 1 Hz; mean window σ_eq = ${res.window_equilibrium_sigma_rad.toExponential(2)} rad, σ_T/T = ${res.window_period_sigma_rel.toExponential(2)})`);
     console.log(`  equilibrium-drift, creep at 2× threshold, ${runs} runs: delay median ${res.creep_delay_median_h.toFixed(2)} h, max ${res.creep_delay_max_h.toFixed(2)} h; missed: ${creepMissed}`);
     console.log(`  period-drift, 500 ppm step, ${runs} runs: delay median ${res.step_delay_median_windows} windows, max ${res.step_delay_max_windows} windows; missed: ${stepMissed}`);
     console.log(`  false drift alarms over ${res.quiet_days} quiet days: ${quietAlerts} → ${res.false_alarms_per_day.toFixed(3)} per day`);
+    console.log(`  thermal-noise-limited balance (T 60 s, Q 2000, readout 1e-8 rad): false drift alarms over ${res.thermal_quiet_days} quiet days: ${thermalAlerts}; period pulls SD ${thermalPullSd.toFixed(2)}`);
     console.log(`  elapsed ${res.elapsed_s.toFixed(1)} s`);
     return res;
   } finally {

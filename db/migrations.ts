@@ -132,6 +132,37 @@ export const MIGRATIONS: readonly Migration[] = [
       `);
     },
   },
+  {
+    version: 3,
+    description: 'a CRC-32 per sample chunk',
+    up(db) {
+      // db/codec.ts chunkChecksum; NULL for chunks written before version 3 (read as unverified)
+      db.exec('ALTER TABLE sample_chunks ADD COLUMN crc32 INTEGER');
+    },
+  },
+  {
+    version: 4,
+    description: "the recorder of a run: pid, host and heartbeat (a crashed run told from a live one); the run's time origin",
+    up(db) {
+      // NULL for runs written before version 4: such a run still 'recording' is taken as crashed
+      db.exec(`
+        ALTER TABLE runs ADD COLUMN recorder_pid INTEGER;
+        ALTER TABLE runs ADD COLUMN recorder_host TEXT;
+        ALTER TABLE runs ADD COLUMN heartbeat_ms INTEGER;   -- UTC ms of the recorder's last sign of life
+        ALTER TABLE runs ADD COLUMN time_origin_s REAL;     -- the samples' own clock at t_s = 0 (device clock: relates runs)
+      `);
+    },
+  },
+  {
+    version: 5,
+    description: "each window's fitted decay rate with its σ (negative within noise, so τ alone cannot carry it)",
+    up(db) {
+      db.exec(`
+        ALTER TABLE windows ADD COLUMN decay_rate_per_s REAL;
+        ALTER TABLE windows ADD COLUMN decay_rate_sigma_per_s REAL;
+      `);
+    },
+  },
 ];
 
 /** The schema version this code writes. */

@@ -3,6 +3,7 @@
  * or the simulator.
  */
 import type { Database } from 'better-sqlite3';
+import { prepared } from './statements.js';
 
 export type RunStatus = 'recording' | 'complete' | 'interrupted';
 export type RunSource = 'device' | 'file' | 'simulator';
@@ -32,6 +33,25 @@ export interface NewRun {
   /** which clock the samples' times come from; default 'host' */
   clock?: RunClock;
   meta?: object;
+  /** the process writing the run (its heartbeat starts now): tells a live run from a crashed one */
+  recorder?: RecorderInfo;
+}
+
+/** The process that writes a run. */
+export interface RecorderInfo {
+  pid: number;
+  host: string;
+}
+
+/** A run still 'recording', with what is known of its recorder. */
+export interface OpenRun {
+  id: number;
+  source: RunSource;
+  /** null for runs written before the store kept recorders (schema 4) */
+  pid: number | null;
+  host: string | null;
+  /** UTC ms of the recorder's last heartbeat, or null */
+  heartbeat_ms: number | null;
 }
 
 /** A run's row in the shape of docs/commands.md's `runs` JSON. */
@@ -104,9 +124,11 @@ export function createRun(db: Database, r: NewRun): number {
         width_m: f.width_m ?? null, thickness_m: f.thickness_m ?? null,
       });
     const fibreId = (db.prepare('SELECT id FROM fibres WHERE name = ?').get(f.name) as { id: number }).id;
-    const info = db.prepare(`INSERT INTO runs (station_id, fibre_id, started_at_ms, status, source, source_path, clock, meta_json)
-                             VALUES (?, ?, ?, 'recording', ?, ?, ?, ?)`)
-      .run(stationId, fibreId, started, r.source, r.sourcePath ?? null, r.clock ?? 'host', r.meta === undefined ? null : JSON.stringify(r.meta));
+    const info = db.prepare(`INSERT INTO runs (station_id, fibre_id, started_at_ms, status, source, source_path, clock, meta_json,
+                                               recorder_pid, recorder_host, heartbeat_ms)
+                             VALUES (?, ?, ?, 'recording', ?, ?, ?, ?, ?, ?, ?)`)
+      .run(stationId, fibreId, started, r.source, r.sourcePath ?? null, r.clock ?? 'host', r.meta === undefined ? null : JSON.stringify(r.meta),
+        r.recorder?.pid ?? null, r.recorder?.host ?? null, r.recorder ? now : null);
     return Number(info.lastInsertRowid);
   }).immediate();
 }
@@ -118,12 +140,48 @@ export function endRun(db: Database, runId: number, status: 'complete' | 'interr
   if (info.changes === 0) throw new Error(`endRun: run ${runId} does not exist`);
 }
 
+const heartbeatStatements = (db: Database) => ({
+  beat: db.prepare("UPDATE runs SET heartbeat_ms = ? WHERE id = ? AND status = 'recording'"),
+});
+
+/** The recorder of a run is alive: store `now_ms` (UTC) as its heartbeat. */
+export function heartbeat(db: Database, runId: number, now_ms: number): void {
+  prepared(db, heartbeatStatements).beat.run(checkTime('heartbeat: now_ms', now_ms), runId);
+}
+
+/** Record the run's time base once its first sample is known: which clock, and that clock's reading at t_s = 0. */
+export function setRunTimeBase(db: Database, runId: number, clock: RunClock, origin_s: number): void {
+  db.prepare('UPDATE runs SET clock = ?, time_origin_s = ? WHERE id = ?').run(clock, Number.isFinite(origin_s) ? origin_s : null, runId);
+}
+
+/**
+ * The device-clock time of a run's last stored sample, or undefined when the
+ * run is not on a device clock or holds no samples.
+ */
+export function lastDeviceTime(db: Database, runId: number): number | undefined {
+  const r = db.prepare(`
+    SELECT r.clock, r.time_origin_s AS origin, (SELECT MAX(t1_s) FROM sample_chunks c WHERE c.run_id = r.id) AS last
+    FROM runs r WHERE r.id = ?`).get(runId) as { clock: RunClock; origin: number | null; last: number | null } | undefined;
+  if (!r || r.clock !== 'device' || r.origin === null || r.last === null) return undefined;
+  return r.origin + r.last;
+}
+
+/** Runs of a station still 'recording', oldest first, with their recorders. */
+export function openRuns(db: Database, station: string): OpenRun[] {
+  return db.prepare(`
+    SELECT r.id, r.source, r.recorder_pid AS pid, r.recorder_host AS host, r.heartbeat_ms
+    FROM runs r JOIN stations s ON s.id = r.station_id
+    WHERE r.status = 'recording' AND s.name = ?
+    ORDER BY r.id`).all(station) as OpenRun[];
+}
+
 /**
  * Mark runs left 'recording' (optionally only one station's) as 'interrupted',
  * ending them at their last stored sample or event; returns their ids.
- * Called at start-up: a run still 'recording' then was cut off by a crash.
+ * Called at start-up: a run still 'recording' then was cut off by a crash —
+ * except the runs in `keep` (ids of runs whose recorder is known to be alive).
  */
-export function markInterrupted(db: Database, station?: string): number[] {
+export function markInterrupted(db: Database, station?: string, keep: readonly number[] = []): number[] {
   return db.transaction(() => {
     const rows = db.prepare(`
       SELECT r.id, r.started_at_ms,
@@ -133,13 +191,14 @@ export function markInterrupted(db: Database, station?: string): number[] {
       WHERE r.status = 'recording' AND (? IS NULL OR s.name = ?)
       ORDER BY r.id`).all(station ?? null, station ?? null) as { id: number; started_at_ms: number; last_sample_s: number | null; last_event_ms: number | null }[];
     const upd = db.prepare("UPDATE runs SET status = 'interrupted', ended_at_ms = ? WHERE id = ?");
-    for (const r of rows) {
+    const ended = rows.filter((r) => !keep.includes(r.id));
+    for (const r of ended) {
       let end = r.started_at_ms;
       if (r.last_sample_s !== null) end = Math.max(end, Math.round(r.started_at_ms + 1000 * r.last_sample_s));
       if (r.last_event_ms !== null) end = Math.max(end, r.last_event_ms);
       upd.run(end, r.id);
     }
-    return rows.map((r) => r.id);
+    return ended.map((r) => r.id);
   }).immediate();
 }
 

@@ -28,6 +28,7 @@ interface PendingRow extends EncodedChunk {
  * chunk in one transaction, together with `runs.samples`. The partial chunk
  * keeps its `seq` and is rewritten as it grows, so a live run at 1 commit/s
  * still ends up with full-size rows. Times are seconds since the run's start.
+ * Each row carries its CRC-32 (db/codec.ts), checked whenever it is read.
  */
 export class SampleWriter {
   private readonly C: number;
@@ -74,21 +75,21 @@ export class SampleWriter {
     this.seq = last.s === null ? 0 : last.s + 1;
     this.upsert = db.prepare(`
       INSERT INTO sample_chunks (run_id, channel, seq, t0_s, t1_s, count, time_kind, dt_s, time_blob,
-                                 value_kind, value_base, value_blob, flags_blob, deflated)
+                                 value_kind, value_base, value_blob, flags_blob, deflated, crc32)
       VALUES (@run_id, @channel, @seq, @t0_s, @t1_s, @count, @time_kind, @dt_s, @time_blob,
-              @value_kind, @value_base, @value_blob, @flags_blob, @deflated)
+              @value_kind, @value_base, @value_blob, @flags_blob, @deflated, @crc32)
       ON CONFLICT (run_id, channel, seq) DO UPDATE SET
         t0_s = excluded.t0_s, t1_s = excluded.t1_s, count = excluded.count, time_kind = excluded.time_kind,
         dt_s = excluded.dt_s, time_blob = excluded.time_blob, value_kind = excluded.value_kind,
         value_base = excluded.value_base, value_blob = excluded.value_blob,
-        flags_blob = excluded.flags_blob, deflated = excluded.deflated`);
+        flags_blob = excluded.flags_blob, deflated = excluded.deflated, crc32 = excluded.crc32`);
     this.setSamples = db.prepare('UPDATE runs SET samples = ? WHERE id = ?');
     this.commit = db.transaction((rows: PendingRow[], samples: number) => {
       for (const r of rows) {
         this.upsert.run({
           run_id: runId, channel: r.channel, seq: r.seq, t0_s: r.t0_s, t1_s: r.t1_s, count: r.count,
           time_kind: r.time_kind, dt_s: r.dt_s, time_blob: r.time_blob, value_kind: r.value_kind,
-          value_base: r.value_base, value_blob: r.value_blob, flags_blob: r.flags_blob, deflated: r.deflated,
+          value_base: r.value_base, value_blob: r.value_blob, flags_blob: r.flags_blob, deflated: r.deflated, crc32: r.crc32,
         });
       }
       this.setSamples.run(samples, runId);

@@ -86,12 +86,20 @@ export class FramesDecoder implements Decoder {
     return out;
   }
 
-  /** End of input: a torn frame left over is counted bad; held incidents are reported. */
+  /**
+   * End of input: what is left is a torn frame — or bytes that only looked
+   * like a frame's start, with whole frames after them: the first byte is
+   * counted bad and the rest scanned again, until nothing is left.
+   */
   flush(host_ms: number): DecodeResult {
     const out: DecodeResult = { blocks: [], incidents: [] };
-    if (this.tail.length > 0) {
-      if (!this.inJunk) this.bad(out, host_ms, this.tail, 0, 'torn frame at end of input');
-      this.tail = new Uint8Array(0);
+    let rest = this.tail;
+    this.tail = new Uint8Array(0);
+    while (rest.length > 0) {
+      if (!this.inJunk) this.bad(out, host_ms, rest, 0, 'torn frame at end of input');
+      this.inJunk = true;
+      const after = rest.subarray(1);
+      rest = after.subarray(this.scan(after, host_ms, out));
     }
     this.inJunk = false;
     this.limiter.due(out.incidents, host_ms, true);

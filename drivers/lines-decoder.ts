@@ -4,6 +4,7 @@
  * Parses the bytes directly (no string per line or field on the hot path).
  */
 import { TIME_ROLES, VALUE_ROLES, type ColumnRole, type RawBlock, type ValueRole } from '../src/domain/block.js';
+import type { Incident } from '../src/domain/events.js';
 import { BadInputLimiter } from './bad-input-limiter.js';
 import type { DecodeResult, Decoder, DecoderStats } from './decoder.js';
 import { parseNumber, scanNumber, scanned } from './parse-number.js';
@@ -79,6 +80,8 @@ export class LinesDecoder implements Decoder {
   private readonly clockWrap?: number;
   private unwrapper: Unwrapper | null = null;
   private readonly limiter = new BadInputLimiter('line');
+  /** incidents raised between pushes (by resync), handed on with the next result */
+  private readonly carried: Incident[] = [];
   // partial line carried between pushes (at most maxLine bytes kept)
   private tail: Uint8Array;
   private tailLen = 0;
@@ -215,11 +218,18 @@ export class LinesDecoder implements Decoder {
   }
 
   /**
-   * Drop the carried partial line. The first line after the break is kept:
-   * a torn one fails to parse and is counted as bad input like any other.
+   * Drop the carried partial line: the stream broke (a reconnect) or a live
+   * line ended before the line did. Such a line is torn, never decoded — a
+   * torn `12.3456,1.2` would otherwise parse as a wrong sample — and it is
+   * counted and reported as bad input with the next push or flush. The first
+   * line after a break is kept: a torn one fails to parse and is counted as
+   * bad input like any other.
    */
   resync(): void {
-    if (this.tailLen > 0 || this.tailOver) this.stats.badRecords++;
+    if (this.tailLen > 0 || this.tailOver) {
+      this.lineNo++;
+      this.bad(this.tail, 0, this.tailLen, 'torn line: the stream broke off before its end', this.carried);
+    }
     this.tailLen = 0;
     this.tailOver = false;
   }
@@ -244,6 +254,7 @@ export class LinesDecoder implements Decoder {
     this.lineInPush = 0;
     this.hostReady = false;
     this.chunk = EMPTY;
+    if (this.carried.length) this.out.incidents.push(...this.carried.splice(0));
     this.limiter.due(this.out.incidents, host_ms);
   }
 
@@ -409,7 +420,7 @@ export class LinesDecoder implements Decoder {
     this.setColumns(cols as ColumnRole[]);
   }
 
-  private bad(buf: Uint8Array, s: number, e: number, reason: string): void {
+  private bad(buf: Uint8Array, s: number, e: number, reason: string, out: Incident[] = this.out.incidents): void {
     this.stats.badRecords++;
     // never more than maxLine bytes, so a long line gives the same snippet whether or not it was carried over
     const end = Math.min(e, s + Math.min(SNIPPET, this.maxLine));
@@ -419,7 +430,7 @@ export class LinesDecoder implements Decoder {
       snippet += c >= 32 && c < 127 ? String.fromCharCode(c) : `\\x${c.toString(16).padStart(2, '0')}`;
     }
     if (e > end) snippet += '…';
-    this.limiter.report(this.out.incidents, this.host_ms, reason, snippet, this.lineNo, this.lastT);
+    this.limiter.report(out, this.host_ms, reason, snippet, this.lineNo, this.lastT);
   }
 
   /** Index of the next sample in the current block, starting a new block when it is full. */

@@ -6,7 +6,14 @@
  *
  *   opening ──ok──▶ up ──close / error / no-data watchdog──▶ closing
  *      ▲                                                        │ (close finished)
- *      └───────────── waiting (capped backoff with jitter) ◀────┘
+ *      └───────────── waiting ◀─────────────────────────────────┘
+ *
+ * While waiting: if the device path is gone (unplugged), the supervisor
+ * watches its folder (fs.watch, plus a stat every 50 ms as a fallback) and
+ * opens again as soon as the path is back — a device path is not a network
+ * service, and backing off from it only loses data. The capped backoff with
+ * jitter is for opens that fail on a path that exists (busy, permissions, a
+ * device that is there but not answering).
  *
  * It is an EventEmitter (typed, see `SerialSupervisorEvents`): `data`, `down`,
  * `up`, `incident`, `giveup`. It never emits `error`, so an unhandled event can
@@ -20,8 +27,9 @@
  *    is the time without data: from the last chunk received before the loss
  *    (or the loss itself if that connection never delivered any) to the first
  *    chunk after the return — the hole a user sees in the recording. It is
- *    longer than the device's absence by the reconnect latency (≤ one backoff
- *    delay) and whatever the device takes to speak again. `host_ms` is the
+ *    longer than the device's absence by the reopen latency (tens of ms after
+ *    the path returns; one backoff delay per open that fails on a path that
+ *    exists) and whatever the device takes to speak again. `host_ms` is the
  *    gap's start; `data.start_ms`/`end_ms` give both ends.
  *  - on `giveup`, a `device-lost` alarm.
  *
@@ -42,7 +50,9 @@
  * an outage cannot distort a gap.
  */
 import { EventEmitter } from 'node:events';
+import { watch, type FSWatcher } from 'node:fs';
 import { stat } from 'node:fs/promises';
+import { dirname } from 'node:path';
 import { SerialPort } from 'serialport';
 import type { Incident } from '../src/domain/events.js';
 import { nextDelay } from '../src/domain/backoff.js';
@@ -91,6 +101,8 @@ export interface SerialSupervisorOptions {
   now?: () => number;
   /** uniform random numbers in [0, 1) for backoff jitter; default Math.random */
   random?: () => number;
+  /** while the device path is absent, look for it this often besides watching its folder, ms; default 50 */
+  pathPoll_ms?: number;
 }
 
 export interface DownInfo {
@@ -149,6 +161,16 @@ export class SerialTransportError extends Error {
 
 const defaultNow = () => performance.timeOrigin + performance.now();
 
+/** Does the path resolve to something (a dangling by-id link does not)? */
+async function pathExists(path: string): Promise<boolean> {
+  try {
+    await stat(path);
+    return true;
+  } catch {
+    return false;
+  }
+}
+
 /**
  * Keeps one serial device open across unplug/replug; see the file comment.
  *
@@ -173,6 +195,7 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
   private readonly openPort: (path: string, baud: number) => SerialPortLike;
   private readonly now: () => number;
   private readonly random: () => number;
+  private readonly pathPoll_ms: number;
 
   private state: State = 'idle';
   private port: SerialPortLike | undefined;
@@ -212,6 +235,8 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
     this.openPort = opts.openPort ?? ((path, baudRate) => new SerialPort({ path, baudRate, autoOpen: false, lock }));
     this.now = opts.now ?? defaultNow;
     this.random = opts.random ?? Math.random;
+    this.pathPoll_ms = opts.pathPoll_ms ?? 50;
+    if (!(this.pathPoll_ms > 0)) throw new TypeError(`pathPoll_ms: must be > 0, got ${opts.pathPoll_ms}`);
   }
 
   /** True while a port is open and delivering. */
@@ -405,6 +430,24 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
       const deadline = this.giveUpAt_ms();
       // checked here too, so a silent device cycling through the watchdog also gives up
       if (deadline !== undefined && this.now() >= deadline) return this.giveUp();
+      const present = await pathExists(this.path);
+      if (this.isOver()) return; // stop() while we looked
+      if (!present) {
+        // A device path is not a network service: there is nothing to back off from while it
+        // is absent. Watch for it and open as soon as it is back; the backoff is only for
+        // opens that fail on a path that exists.
+        this.lastError = `${this.path} does not exist`;
+        const back = await this.waitForPath(deadline);
+        if (this.isOver()) return;
+        if (!back) continue; // the deadline passed: give up at the top
+        this.state = 'opening';
+        const r = await this.attempt();
+        if (r === 'ok') {
+          if (this.isOver()) await this.closePort();
+          return;
+        }
+        continue;
+      }
       let delay_ms = nextDelay(retry++, this.minDelay_s, this.maxDelay_s, this.random()) * 1000;
       // last attempt exactly at the deadline
       if (deadline !== undefined) delay_ms = Math.min(delay_ms, Math.max(0, deadline - this.now()));
@@ -463,6 +506,48 @@ export class SerialSupervisor extends EventEmitter<SerialSupervisorEvents> {
     port.removeAllListeners();
     port.on('error', () => {}); // late errors from a discarded port must not throw
     if (this.port === port) this.port = undefined;
+  }
+
+  /**
+   * Wait until the device path exists again (true), or the deadline passes or
+   * stop() is called (false). fs.watch on its folder wakes us at once where
+   * inotify reports the change; a stat every `pathPoll_ms` covers the rest (a
+   * folder that is itself gone, such as /dev/serial/by-id with no device).
+   */
+  private waitForPath(deadline_ms: number | undefined): Promise<boolean> {
+    if (this.isOver()) return Promise.resolve(false);
+    return new Promise((resolve) => {
+      let done = false;
+      let watcher: FSWatcher | undefined;
+      let limit: NodeJS.Timeout | undefined;
+      const finish = (back: boolean): void => {
+        if (done) return;
+        done = true;
+        clearInterval(poll);
+        clearTimeout(limit);
+        watcher?.close();
+        if (this.wake === stopWait) this.wake = undefined;
+        resolve(back);
+      };
+      const check = (): void => {
+        if (done) return;
+        void pathExists(this.path).then((ok) => ok && finish(true));
+      };
+      const stopWait = () => finish(false);
+      this.wake = stopWait;
+      const poll = setInterval(check, this.pathPoll_ms);
+      if (deadline_ms !== undefined) limit = setTimeout(() => finish(false), Math.max(0, deadline_ms - this.now()));
+      try {
+        watcher = watch(dirname(this.path), { persistent: false }, check);
+        watcher.on('error', () => {
+          watcher?.close();
+          watcher = undefined;
+        });
+      } catch {
+        // no such folder (yet): the poll alone
+      }
+      check(); // it may have come back while we looked away
+    });
   }
 
   private sleep(ms: number): Promise<void> {

@@ -28,7 +28,15 @@ export interface AdaptiveConditionOptions {
 
 const BAD = FLAG_SATURATED | FLAG_SPIKE | FLAG_INVALID;
 
-/** First period estimate of held blocks: FFT seed over their concatenation (masked samples excluded). */
+/** Fewest periods the stretch of a first estimate must hold: fewer, and a harmonic or the noise can pass for the swing. */
+export const FIRST_ESTIMATE_MIN_PERIODS = 4;
+
+/**
+ * First period estimate of held blocks: FFT seed over the longest gap-free
+ * stretch among them (masked samples excluded), searched only up to a
+ * quarter of that stretch, so the estimate always rests on at least
+ * FIRST_ESTIMATE_MIN_PERIODS cycles; undefined when the stretch is too short.
+ */
 export function estimatePeriod(blocks: AngleBlock[]): number | undefined {
   let n = 0;
   for (const b of blocks) n += b.n;
@@ -41,14 +49,20 @@ export function estimatePeriod(blocks: AngleBlock[]): number | undefined {
     for (let i = 0; i < b.n; i++) m[k + i] = b.flags[i] & BAD || !Number.isFinite(b.angle[i]) ? 1 : 0;
     k += b.n;
   }
-  // the seed wants one gap-free, uniform stretch: use the last one
-  let from = 0;
+  // the seed wants one gap-free, uniform stretch: the longest one
   const dt = medianInterval(t);
   if (dt === undefined) return undefined;
-  for (let i = 1; i < n; i++) if (t[i] - t[i - 1] > 5 * dt) from = i;
-  if (n - from < 64) return undefined;
-  const s = periodSeed(t.subarray(from), y.subarray(from), { mask: m.subarray(from), maxPeriod_s: (t[n - 1] - t[from]) / 2.5 });
-  return s.ok ? s.period_s : undefined;
+  let from = 0, bestFrom = 0, bestTo = n;
+  let best = -1;
+  for (let i = 1; i <= n; i++) {
+    if (i < n && !(t[i] - t[i - 1] > 5 * dt) && t[i] > t[i - 1]) continue;
+    if (t[i - 1] - t[from] > best) { best = t[i - 1] - t[from]; bestFrom = from; bestTo = i; }
+    from = i;
+  }
+  if (bestTo - bestFrom < 64) return undefined;
+  const span = t[bestTo - 1] - t[bestFrom];
+  const s = periodSeed(t.subarray(bestFrom, bestTo), y.subarray(bestFrom, bestTo), { mask: m.subarray(bestFrom, bestTo), maxPeriod_s: span / FIRST_ESTIMATE_MIN_PERIODS });
+  return s.ok && span >= FIRST_ESTIMATE_MIN_PERIODS * s.period_s ? s.period_s : undefined;
 }
 
 /** Median sample interval of the first (up to 64) held samples, across block boundaries. */
@@ -95,7 +109,7 @@ export function adaptiveCondition(opts: AdaptiveConditionOptions): (source: Obse
           const span = held[held.length - 1].t[b.n - 1] - held[0].t[0];
           if (span >= need_s) {
             const p = estimatePeriod(held);
-            if (p !== undefined && span >= 2.5 * p) return start(p);
+            if (p !== undefined) return start(p);
             need_s *= 2;
           }
           if (heldN >= maxHeld) start(estimatePeriod(held));

@@ -10,6 +10,8 @@ import type { Incident } from '../src/domain/events.js';
 import type { WindowResult } from '../src/domain/window-result.js';
 import { FIT_STATUS } from '../src/analysis/fit-status.js';
 import { analyseWindow, emptyResult, type WindowAnalysisOptions } from '../src/analysis/window-analysis.js';
+import type { WindowNoiseModel } from '../src/analysis/phase-diffusion.js';
+import { periodSeed } from '../src/analysis/period-seed.js';
 import type { WindowData } from './types.js';
 import type { PeriodTracker } from './period-tracker.js';
 import { operate } from './operate.js';
@@ -19,10 +21,15 @@ import { faultIncident } from './fault-incident.js';
 export interface AnalyseOptions extends WindowAnalysisOptions {
   /** updated with every accepted period */
   tracker?: PeriodTracker;
-  /** current standard-error scale (decimation); read per window because it is fixed only after the first estimate */
-  sigmaScaleNow?: () => number;
+  /**
+   * the decimation in force: factor M and the standard-error scale of band-limited readout noise
+   * (Decimator.whiteNoiseSigmaFactor); read per window because it is fixed only after the first estimate
+   */
+  decimationNow?: () => { factor: number; sigmaFactor: number };
   /** hears of a window whose analysis threw (an `internal-error` incident naming the window and the message) */
   onIncident?: (inc: Incident) => void;
+  /** the run's model of the noise the residuals cannot show; lives outside the operator so a restart keeps it */
+  noise?: WindowNoiseModel;
 }
 
 /**
@@ -48,8 +55,29 @@ export function analyse(opts: AnalyseOptions = {}): (source: Observable<WindowDa
               exclude[i] = w.mask[i] ? 0 : 1;
               seedExclude[i] = Number.isFinite(w.y[i]) ? 0 : 1;
             }
-            r = analyseWindow({ index: w.index, t: w.t, y: w.y, mask: exclude, seedMask: seedExclude, temp: w.temp, t_start_s: w.t_start_s, t_end_s: w.t_end_s, periodHint_s: w.periodHint_s }, { ...opts, sigmaScale: opts.sigmaScaleNow?.() }).result;
-            if (r.status === 'ok' && r.period_s !== null) opts.tracker?.update(r.period_s);
+            const noise = opts.noise;
+            const a = analyseWindow(
+              { index: w.index, t: w.t, y: w.y, mask: exclude, seedMask: seedExclude, temp: w.temp, t_start_s: w.t_start_s, t_end_s: w.t_end_s, periodHint_s: w.periodHint_s },
+              { ...opts, readout: readoutOf(w, opts.decimationNow?.()), extraVariance: noise && ((x) => noise.extra(x)) },
+            );
+            r = a.result;
+            // a run of failures: look for the period afresh in this window, over its whole band, not near the estimate
+            if (r.status !== 'ok' && opts.tracker?.failed()) {
+              const span = w.t_end_s - w.t_start_s;
+              const s = periodSeed(w.t, w.y, { mask: seedExclude, maxPeriod_s: span / 3 });
+              // nothing in a window cut too short for the swing: try windows twice as long
+              if (s.ok) opts.tracker.reseed(s.period_s);
+              else if (opts.tracker.current !== undefined && opts.tracker.current < 1e5) opts.tracker.reseed(2 * opts.tracker.current);
+            }
+            if (r.status === 'ok' && r.period_s !== null) {
+              opts.tracker?.update(r.period_s);
+              if (noise && a.fitOnly && a.fit) {
+                noise.observe({
+                  t_mid_s: r.t_mid_s, span_s: r.t_end_s - r.t_start_s, period_s: r.period_s, period_fit_sigma_s: a.fitOnly.period_sigma_s,
+                  decay_rate_per_s: a.fit.decay_rate_per_s!, decay_rate_fit_sigma_per_s: a.fitOnly.decay_rate_sigma_per_s, amplitude_rad: r.amplitude_rad!,
+                });
+              }
+            }
           } catch (e) {
             // a program fault, not a property of the data: keep the window, unfitted, and say why once
             r = emptyResult(w, FIT_STATUS.internalError, w.y.length);
@@ -64,4 +92,19 @@ export function analyse(opts: AnalyseOptions = {}): (source: Observable<WindowDa
         },
       };
     });
+}
+
+/**
+ * The readout noise that reached a decimated window's samples: the variance
+ * measured before the filter (condition.ts) times Σh² = 1/(M·k²), and k² for
+ * its share of the fit's variance. Undefined at the input rate (the fit
+ * measures it on its residuals); without a measurement the whole residual
+ * variance is taken as readout, the cautious choice.
+ */
+function readoutOf(w: WindowData, dec: { factor: number; sigmaFactor: number } | undefined): { variance_rad2: number; scale2: number } | undefined {
+  if (!dec || dec.factor <= 1) return undefined;
+  const k2 = dec.sigmaFactor * dec.sigmaFactor;
+  let s = 0, n = 0;
+  if (w.readoutVar) for (let i = 0; i < w.readoutVar.length; i++) if (Number.isFinite(w.readoutVar[i])) { s += w.readoutVar[i]; n++; }
+  return { variance_rad2: n ? s / n / (dec.factor * k2) : Infinity, scale2: k2 };
 }

@@ -11,7 +11,7 @@ export interface CleanOptions {
   hampelHalfWidth: number;
   /** Hampel threshold in robust σ (station `analysis.hampel_threshold`, default there 5) */
   hampelThreshold: number;
-  /** a time step > gapFactor × the reference interval (or ≤ 0) marks a gap (default 5) */
+  /** a time step > gapFactor × the reference interval marks a gap (default 5); a step ≤ 0 masks the sample instead */
   gapFactor?: number;
   /** floor on the Hampel robust σ, radians (default 0); set to the quantisation step for encoders */
   hampelMinScale_rad?: number;
@@ -20,7 +20,9 @@ export interface CleanOptions {
 }
 
 /**
- * Mask and mark a stream of angle blocks: non-finite samples get FLAG_INVALID,
+ * Mask and mark a stream of angle blocks: non-finite samples, and samples
+ * whose time does not advance past the latest one (repeated or earlier: a bad
+ * time, never a gap), get FLAG_INVALID,
  * saturated (and invalid) samples are kept with their flags and take no part
  * in despiking, the streaming Hampel filter sets FLAG_SPIKE, and the first
  * sample after a gap gets FLAG_AFTER_GAP (a driver-set FLAG_AFTER_GAP is a gap
@@ -84,7 +86,10 @@ export function clean(opts: CleanOptions): (source: Observable<AngleBlock>) => O
           let gap = (f & FLAG_AFTER_GAP) !== 0;
           if (Number.isFinite(ti) && Number.isFinite(prevT)) {
             const dt = ti - prevT;
-            if (!(dt > 0) || dt > limit) gap = true;
+            // a time that does not advance is a bad time, not a gap: the sample is masked and
+            // the time axis stays where it was (never a gap of zero or negative length)
+            if (!(dt > 0)) f |= FLAG_INVALID;
+            else if (dt > limit) gap = true;
           }
           if (gap && a > 0) {
             // no Hampel window may straddle the gap: decide what is left before it
@@ -93,7 +98,7 @@ export function clean(opts: CleanOptions): (source: Observable<AngleBlock>) => O
           }
           if (gap) f |= FLAG_AFTER_GAP;
           flags[o] = f;
-          if (Number.isFinite(ti)) prevT = ti;
+          if (Number.isFinite(ti) && !(ti <= prevT)) prevT = ti;
           const r = hampel.push(y[o], (f & (FLAG_SATURATED | FLAG_INVALID | FLAG_SPIKE)) === 0);
           if (r !== HAMPEL_PENDING) {
             if (r === HAMPEL_SPIKE) flags[decided - base] |= FLAG_SPIKE;

@@ -1,8 +1,11 @@
 import type { Observable } from 'rxjs';
-import { FLAG_INVALID, type AngleBlock } from '../src/domain/block.js';
+import { FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../src/domain/block.js';
+import { DifferenceNoiseStream } from '../src/analysis/difference-noise.js';
 import { BlockBuffer } from '../src/analysis/block-buffer.js';
 import { Decimator, medianInterval, type DecimatedSamples } from '../src/analysis/decimate.js';
 import { operate } from './operate.js';
+
+const BAD = FLAG_SATURATED | FLAG_SPIKE | FLAG_INVALID;
 
 /** Options of `condition`. */
 export interface ConditionOptions {
@@ -34,6 +37,23 @@ export interface ConditionOptions {
  * @param opts decimation factor and filter options
  * @return an operator from AngleBlock to AngleBlock
  */
+/**
+ * The channel in which `condition` hands on the readout noise it measured on
+ * the samples before filtering: the variance per input sample, rad², from
+ * their 6th differences (difference-noise.ts), averaged over the input
+ * samples each kept sample stands for, the same however the stream is cut.
+ * After the low-pass the decimated samples no longer show it (the fit's own
+ * difference estimate sees only the filter's stop band).
+ */
+export const READOUT_CHANNEL = 'readout_var_rad2';
+
+/** Per kept sample, the readout variance of the input samples since the previous one (chunk-invariant). */
+function readoutVariance(noise: DifferenceNoiseStream, y: Float64Array, flags: Uint8Array, n: number, kept: Int32Array): Float64Array {
+  const mask = new Uint8Array(n);
+  for (let i = 0; i < n; i++) mask[i] = flags[i] & BAD ? 1 : 0;
+  return noise.push(y, mask, n, kept);
+}
+
 export function condition(opts: ConditionOptions): (source: Observable<AngleBlock>) => Observable<AngleBlock> {
   const M = opts.factor;
   if (!Number.isInteger(M) || M < 1) throw new RangeError(`factor: must be an integer ≥ 1 (got ${M})`);
@@ -51,9 +71,10 @@ export function condition(opts: ConditionOptions): (source: Observable<AngleBloc
       let pending: BlockBuffer | null = dec ? null : new BlockBuffer();
       let last: { clock: AngleBlock['clock']; host_ms: number } = { clock: 'host', host_ms: 0 };
 
-      const emit = (d: DecimatedSamples, channels: Partial<Record<string, Float64Array>>, like: { clock: AngleBlock['clock']; host_ms: number }): void => {
+      const noise = new DifferenceNoiseStream();
+      const emit = (d: DecimatedSamples, channels: Partial<Record<string, Float64Array>>, like: { clock: AngleBlock['clock']; host_ms: number }, readoutVar: Float64Array): void => {
         if (d.n === 0) return;
-        const kept: Record<string, Float64Array> = {};
+        const kept: Record<string, Float64Array> = { [READOUT_CHANNEL]: readoutVar };
         for (const [name, v] of Object.entries(channels)) {
           if (!v) continue;
           const c = new Float64Array(d.n);
@@ -79,7 +100,8 @@ export function condition(opts: ConditionOptions): (source: Observable<AngleBloc
           return;
         }
         dec = make(dt);
-        emit(dec.process(v.t, v.y, v.flags), v.channels, like);
+        const d = dec.process(v.t, v.y, v.flags);
+        emit(d, v.channels, like, readoutVariance(noise, v.y, v.flags, v.y.length, d.index));
         pending = null;
       };
 
@@ -87,7 +109,8 @@ export function condition(opts: ConditionOptions): (source: Observable<AngleBloc
         next(block) {
           last = { clock: block.clock, host_ms: block.host_ms };
           if (dec) {
-            emit(dec.process(block.t, block.angle, block.flags, 0, block.n), block.channels, block);
+            const d = dec.process(block.t, block.angle, block.flags, 0, block.n);
+            emit(d, block.channels, block, readoutVariance(noise, block.angle, block.flags, block.n, d.index));
           } else if (pending) {
             pending.append(block.t, block.angle, block.flags, block.channels, 0, block.n);
             drainPending(block, false);

@@ -1,6 +1,8 @@
 /**
  * Report gaps seen in the sample times (after `clean` marked FLAG_AFTER_GAP):
- * a `gap` incident with the missing span. The blocks pass through unchanged.
+ * a `gap` incident with the missing span. A mark that spans no missing time
+ * (at most 1.5 regular steps, or a time that did not advance) is a break, not
+ * a gap, and is not reported here. The blocks pass through unchanged.
  */
 import type { Observable } from 'rxjs';
 import { FLAG_AFTER_GAP, type AngleBlock } from '../src/domain/block.js';
@@ -22,17 +24,28 @@ export function gapEvents(report: (inc: Incident) => void, opts: GapEventsOption
   return (source) =>
     operate<AngleBlock, AngleBlock>(source, (out) => {
       let lastT: number | undefined;
+      // the last regular step between two samples, s: a break no longer than about one step lost no time
+      let lastStep = NaN;
       return {
         next(b) {
           for (let i = 0; i < b.n; i++) {
-            if (!(b.flags[i] & FLAG_AFTER_GAP)) continue;
             const prev = i > 0 ? b.t[i - 1] : lastT;
+            if (!(b.flags[i] & FLAG_AFTER_GAP)) {
+              if (prev !== undefined && b.t[i] > prev) lastStep = b.t[i] - prev;
+              continue;
+            }
             if (prev === undefined || opts.isFaultRestart?.(prev, b.t[i])) continue;
             const duration_s = b.t[i] - prev;
+            // never a gap of zero or negative length (a repeated or earlier time is a clock fault), and
+            // none for a break that lost no time (a device clock step re-timed to the next slot: its
+            // clock-note says so)
+            if (!(duration_s > 0) || duration_s <= 1.5 * lastStep) continue;
+            // whole sample intervals missing, at the regular step before the gap
+            const lost = Number.isFinite(lastStep) ? Math.max(0, Math.round(duration_s / lastStep) - 1) : null;
             report({
               kind: 'gap', severity: 'warning', t: prev, host_ms: b.host_ms,
-              message: `no samples for ${duration_s.toFixed(2)} s (sample times jump)`,
-              value: duration_s, data: { duration_s, from: 'sample-times' },
+              message: `no samples for ${duration_s.toFixed(2)} s (sample times jump${lost === null ? '' : `; about ${lost} samples`})`,
+              value: duration_s, data: { duration_s, from: 'sample-times', lost_samples: lost },
             });
           }
           if (b.n) lastT = b.t[b.n - 1];

@@ -18,6 +18,7 @@ import type { Incident } from '../src/domain/events.js';
 import type { WindowResult } from '../src/domain/window-result.js';
 import type { AnalysisConfig } from '../src/config/station.js';
 import type { DeriveContext } from '../src/analysis/derive.js';
+import { WindowNoiseModel, type Damping } from '../src/analysis/phase-diffusion.js';
 import { clean } from './clean.js';
 import { fillHoles } from './fill-holes.js';
 import { gapEvents } from './gap-events.js';
@@ -38,6 +39,8 @@ export interface PipelineOptions {
   onFirstEstimate?: (period_s: number, factor: number) => void;
   /** encoder quantisation step, rad: floor of the despiker's robust σ */
   quantum_rad?: number;
+  /** what the station says of the balance's noise: damping model and temperature (defaults internal, 295 K) */
+  noise?: { damping?: Damping; temperature_K?: number };
 }
 
 export interface Pipeline {
@@ -69,8 +72,14 @@ export function analysisPipeline(blocks$: Observable<AngleBlock>, opts: Pipeline
   const a = opts.analysis;
   const report = (inc: Incident): void => opts.onIncident?.(inc);
   const tracker = new PeriodTracker(a.period_guess_s);
-  // fits on low-passed, decimated samples see band-limited noise: their standard errors are scaled up (see decimate.ts)
-  const noise = { sigmaFactor: 1 };
+  // the noise the residuals cannot show, measured on the run's windows (survives a restart of `analyse`)
+  const windowNoise = new WindowNoiseModel({
+    damping: opts.noise?.damping ?? 'internal',
+    inertia_kg_m2: opts.derive?.inertia_kg_m2,
+    temperature_K: opts.noise?.temperature_K,
+  });
+  // fits on low-passed, decimated samples see band-limited readout noise: its share of their standard errors is scaled up (decimate.ts, analyse.ts)
+  const decimation = { factor: 1, sigmaFactor: 1 };
   // once fixed, the decimation factor outlives a restart of the conditioning (it is a choice, not state)
   let factor: number | undefined;
   let nextWindow = 0;
@@ -113,7 +122,8 @@ export function analysisPipeline(blocks$: Observable<AngleBlock>, opts: Pipeline
       },
       onFactor: (m, f) => {
         factor = m;
-        noise.sigmaFactor = f;
+        decimation.factor = m;
+        decimation.sigmaFactor = f;
       },
     })),
     restartOnFault(() => slidingWindows({ windowPeriods: a.window_periods, stepPeriods: a.step_periods, period$: () => tracker.current, firstIndex: nextWindow }), {
@@ -123,7 +133,7 @@ export function analysisPipeline(blocks$: Observable<AngleBlock>, opts: Pipeline
     tap((w) => {
       nextWindow = w.index + 1;
     }),
-    restartOnFault(() => analyse({ derive: opts.derive, tracker, sigmaScaleNow: () => noise.sigmaFactor, onIncident: report }), {
+    restartOnFault(() => analyse({ derive: opts.derive, tracker, decimationNow: () => decimation, onIncident: report, noise: windowNoise }), {
       stage: 'analyse',
       onFault: onFault('restarted; the window it was working on is lost, the next ones are analysed'),
     }),

@@ -15,6 +15,8 @@ export interface WindowData {
   mask: Uint8Array;
   /** temperature, °C, per sample, when the source records temp_C */
   temp?: Float64Array;
+  /** readout noise variance per input sample before decimation, rad², when the stream was decimated (condition.ts) */
+  readoutVar?: Float64Array;
   /** time of the first and the last sample, seconds */
   t_start_s: number;
   t_end_s: number;

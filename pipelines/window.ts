@@ -2,6 +2,7 @@ import type { Observable } from 'rxjs';
 import { FLAG_AFTER_GAP, FLAG_INVALID, FLAG_SATURATED, FLAG_SPIKE, type AngleBlock } from '../src/domain/block.js';
 import { BlockBuffer } from '../src/analysis/block-buffer.js';
 import type { WindowData } from './types.js';
+import { READOUT_CHANNEL } from './condition.js';
 import { operate } from './operate.js';
 
 /** Options of `slidingWindows`. */
@@ -94,6 +95,7 @@ export function slidingWindows(opts: SlidingWindowOptions): (source: Observable<
           periodHint_s: p,
         };
         if (c.channels.temp_C) w.temp = c.channels.temp_C;
+        if (c.channels[READOUT_CHANNEL]) w.readoutVar = c.channels[READOUT_CHANNEL];
         out.next(w);
       };
 

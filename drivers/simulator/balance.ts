@@ -2,12 +2,38 @@
  * The virtual torsion balance: I·θ̈ + b·θ̇ + κ(t)·(θ − θ_eq(t)) = τ_thermal(t),
  * advanced sample by sample with the exact discrete-time solution of the
  * linear oscillator (state-transition matrix over Δt, recomputed whenever κ
- * changes) and thermal torque noise with the exact discrete covariance, so
- * the stationary angle variance is k_B·T/κ.
+ * changes).
  *
  * Modelling choices, stated once:
- * - damping is viscous, b = I·ω₀/Q (the viscous equivalent of the fibre's
- *   structural loss at ω₀); the noise is white to match it;
+ * - the mechanics is a linear oscillator I·ÿ + b·ẏ + κ'·y for either damping
+ *   law. Viscous: b = I·ω₀/Q, κ' = κ. Internal: the free motion is that of the
+ *   complex stiffness κ·(1 + i/Q), e^(i(ω_d + iγ)t) with ω_d + iγ = ω₀·√(1 + i/Q)
+ *   (so ω₀² = ω_d² − γ², as src/physics/torsion.ts inverts it, and γ ≈ ω₀/(2Q)),
+ *   which the oscillator with κ' = κ·√(1 + 1/Q²) and b = 2·I·γ has exactly
+ *   (lossAngleOscillator). Its response differs from the loss angle's
+ *   |κ(1 + i/Q) − I·ω²|⁻¹ (i·b·ω for i·κ/Q) by less than 1/(2Q) in |χ|² at any
+ *   frequency;
+ * - `damping: 'viscous'`: white thermal torque 4·k_B·T·I·ω₀/Q (one-sided),
+ *   added with the exact discrete covariance of the state over a step, so the
+ *   stationary angle variance is k_B·T/κ;
+ * - `damping: 'internal'` (loss angle 1/Q, the usual case of a fibre): the
+ *   thermal torque has the fluctuation–dissipation spectrum
+ *   S_τ(f) = 4·k_B·T·κ/(2π·f·Q), equal to the viscous one at f₀. It is a sum
+ *   of Ornstein–Uhlenbeck processes with rates λ_k two per decade, from
+ *   2/Δt down to below 0.1/duration (internalTorqueRates), each of variance
+ *   S·f·ln(10)/2: a log-uniform sum of Lorentzians 4σ²λ/(λ² + ω²) is 1/f, and
+ *   at two per decade its ripple is ±0.08 % (its cost: one normal deviate per
+ *   component and sample, 15–20 components). Each is advanced exactly per
+ *   sample (u ← e^{−λΔt}·u + √(1 − e^{−2λΔt})·n); their sum is held over the
+ *   step and enters through the exact propagator's input response
+ *   Γ = [(1 − Φ₁₁)/κ, Φ₁₂/I]. The held sequence's spectrum is 1/f within 1 %
+ *   from 40·λ_min/(2π) (below 0.64/duration) up to a tenth of the sample rate
+ *   (the top rate, 2/Δt, is chosen so that its sampled spectrum makes up for
+ *   the rates left out above it; test/drivers/simulator-internal.test.ts
+ *   checks the spectrum); below that it flattens, so the angle variance stays
+ *   finite: k_B·T/κ plus the 1/f share, about (2/(π·Q))·ln(f₀·duration)·k_B·T/κ.
+ *   The held torque reaches the pendulum low by sinc²(π·f/f_s), 0.1 % at
+ *   f_s/50 and 1e-5 at the demo's f_s/600;
  * - the state is y = θ − θ_eq: the slow equilibrium (creep, twists) is added
  *   afterwards, so the pendulum follows it quasi-statically. The neglected lag
  *   is of order θ̈_eq/ω₀², negligible for creep over minutes to days;
@@ -25,6 +51,8 @@ export interface Propagator {
   chol: Float64Array;
   /** the step noise covariance [Q11, Q12, Q22] */
   cov: Float64Array;
+  /** response [Δy, Δv] to a unit torque (1 N·m) held over the step, from rest */
+  input: Float64Array;
   omega0: number;
   gamma: number;
 }
@@ -42,6 +70,11 @@ export function propagator(I: number, kappa: number, q: number, h: number, kT: n
   const c = Math.cos(wd * h);
   const s = Math.sin(wd * h);
   const phi = new Float64Array([e * (c + (g / wd) * s), (e * s) / wd, (-e * w0 * w0 * s) / wd, e * (c - (g / wd) * s)]);
+  // Γ = ∫₀ʰ Φ(s)·[0, 1/I]ᵀ ds = [(1 − Φ₁₁)/κ, Φ₁₂/I]; 1 − Φ₁₁ written without the
+  // 1 − cos cancellation, since it is of order (ω₀h)² at high sample rates
+  const sh = Math.sin((wd * h) / 2);
+  const oneMinusPhi11 = -Math.expm1(-g * h) + e * 2 * sh * sh - e * (g / wd) * s;
+  const input = new Float64Array([oneMinusPhi11 / kappa, phi[1] / I]);
   // Q = q_c ∫₀ʰ Φ(s)·[0 1]ᵀ[0 1]·Φ(s)ᵀ ds in closed form; the integrals are
   // written so nothing cancels worse than (ω_d·h)², and by power series at high
   // sample rates where even that would lose digits.
@@ -77,7 +110,7 @@ export function propagator(I: number, kappa: number, q: number, h: number, kT: n
     chol[1] = chol[0] > 0 ? cov[1] / chol[0] : 0;
     chol[2] = Math.sqrt(Math.max(0, cov[2] - chol[1] * chol[1]));
   }
-  return { phi, chol, cov, omega0: w0, gamma: g };
+  return { phi, chol, cov, input, omega0: w0, gamma: g };
 }
 
 /**
@@ -110,6 +143,39 @@ function seriesIntegral(a: number, w: number, h: number, f: 'one' | 'cos' | 'sin
   return sum;
 }
 
+/**
+ * The oscillator (stiffness κ' in N·m/rad and its Q' = √(κ'/I)/(2γ)) whose free motion is that of
+ * the complex stiffness κ·(1 + i/Q): ω_d + iγ = ω₀·√(1 + i/Q), ω₀ = √(κ/I).
+ */
+export function lossAngleOscillator(I: number, kappa: number, q: number): { kappa: number; q: number } {
+  const phi = 1 / q;
+  const r = Math.sqrt(1 + phi * phi);
+  const a = Math.sqrt((r + 1) / 2); // Re √(1 + iφ)
+  const b = phi / (2 * a); // Im √(1 + iφ), from 2ab = φ without cancellation
+  const w0 = Math.sqrt(kappa / I);
+  const k = kappa * r; // I·(ω_d² + γ²) = I·ω₀²·(a² + b²)
+  return { kappa: k, q: Math.sqrt(k / I) / (2 * w0 * b) };
+}
+
+/** Rates λ_k of the internal-damping torque's OU components are this factor apart (two per decade). */
+export const INTERNAL_RATE_RATIO = Math.sqrt(10);
+
+/**
+ * Rates λ_k (1/s) of the Ornstein–Uhlenbeck components whose sum is the
+ * internal-damping thermal torque: 2·sample rate, then down by √10 each,
+ * ending at the first rate ≤ 0.1/duration. Each component's variance is
+ * S_τ(f)·f·ln(√10), with S_τ(f)·f = 4·k_B·T·κ/(2π·Q) the constant of the 1/f law.
+ */
+export function internalTorqueRates(duration_s: number, sampleRate_Hz: number): Float64Array {
+  const out: number[] = [];
+  const floor = 0.1 / duration_s;
+  for (let lam = 2 * sampleRate_Hz; ; lam /= INTERNAL_RATE_RATIO) {
+    out.push(lam);
+    if (lam <= floor) break;
+  }
+  return Float64Array.from(out);
+}
+
 /** Output of one block of simulated samples. */
 export interface BalanceBlock {
   /** sample times, s since the run's start */
@@ -120,6 +186,8 @@ export interface BalanceBlock {
   thetaEq: Float64Array;
   /** pendulum temperature, K */
   temperature_K: Float64Array;
+  /** thermal torque held over each sample's step, N·m (internal damping with thermal noise only) */
+  torque_Nm?: Float64Array;
 }
 
 /** Advances one scenario's balance sample by sample; deterministic for a seed. */
@@ -137,6 +205,12 @@ export class Balance {
   private readonly steps: { t: number; f: number }[];
   private readonly kT: number;
   private readonly n1 = new Float64Array(2);
+  // internal damping: OU components of the torque (unit variance), their step decay and drive
+  private readonly internal: boolean;
+  private readonly ou: Float64Array;
+  private readonly ouDecay: Float64Array;
+  private readonly ouDrive: Float64Array;
+  private torqueScale = 0; // √(variance of one component), N·m, at the propagator's κ
 
   constructor(readonly sc: Scenario, readonly rng: Rng) {
     this.h = 1 / sc.sample_rate_Hz;
@@ -147,8 +221,9 @@ export class Balance {
     // initial state: the given swing θ − θ_eq = A·cos φ at t = 0 of A·e^{−t/τ}·cos(ω_d t + φ),
     // plus a draw from the thermal equilibrium distribution
     const k0 = this.kappaAt(0);
-    const w0 = Math.sqrt(k0 / sc.I);
-    const g = w0 / (2 * sc.q);
+    const m0 = this.mechanics(k0);
+    const w0 = Math.sqrt(m0.kappa / sc.I);
+    const g = w0 / (2 * m0.q);
     const wd = Math.sqrt(w0 * w0 - g * g);
     const A = sc.initial.amplitude_rad;
     const ph = sc.initial.phase_rad;
@@ -158,6 +233,22 @@ export class Balance {
       this.y += Math.sqrt(this.kT / k0) * rng.normal();
       this.v += Math.sqrt(this.kT / sc.I) * rng.normal();
     }
+    this.internal = sc.damping === 'internal' && this.kT > 0;
+    const rates = this.internal ? internalTorqueRates(sc.duration_s, sc.sample_rate_Hz) : new Float64Array(0);
+    this.ou = new Float64Array(rates.length);
+    this.ouDecay = new Float64Array(rates.length);
+    this.ouDrive = new Float64Array(rates.length);
+    for (let j = 0; j < rates.length; j++) {
+      // drawn from their stationary distribution, so the torque is stationary from the start
+      this.ou[j] = rng.normal();
+      this.ouDecay[j] = Math.exp(-rates[j] * this.h);
+      this.ouDrive[j] = Math.sqrt(-Math.expm1(-2 * rates[j] * this.h));
+    }
+  }
+
+  /** The oscillator's stiffness and Q for the fibre's κ: itself for viscous damping, lossAngleOscillator for internal. */
+  private mechanics(kappa: number): { kappa: number; q: number } {
+    return this.sc.damping === 'internal' ? lossAngleOscillator(this.sc.I, kappa, this.sc.q) : { kappa, q: this.sc.q };
   }
 
   /** Temperature of the pendulum at time t, K. */
@@ -195,6 +286,8 @@ export class Balance {
     const out: BalanceBlock = { t: new Float64Array(n), theta: new Float64Array(n), thetaEq: new Float64Array(n), temperature_K: new Float64Array(n) };
     const sc = this.sc;
     const n1 = this.n1;
+    const torque = this.internal ? (out.torque_Nm = new Float64Array(n)) : undefined;
+    const ou = this.ou, decay = this.ouDecay, drive = this.ouDrive;
     for (let i = 0; i < n; i++, this.k++) {
       const t = this.k / this.sc.sample_rate_Hz; // k/fs, not k·h: exact decimal times where possible
       // disturbances due at or before this sample
@@ -214,13 +307,26 @@ export class Balance {
       // has moved by more than 1e-10 relative (5e-11 in period)
       const kap = this.kappaAt(t + this.h / 2);
       if (!(Math.abs(kap - this.propKappa) <= 1e-10 * kap)) {
-        this.prop = propagator(sc.I, kap, sc.q, this.h, this.kT);
+        // internal damping: no white torque; the coloured one enters through `input`
+        const m = this.mechanics(kap);
+        this.prop = propagator(sc.I, m.kappa, m.q, this.h, this.internal ? 0 : this.kT);
         this.propKappa = kap;
+        if (this.internal) this.torqueScale = Math.sqrt((4 * this.kT * kap * Math.log(INTERNAL_RATE_RATIO)) / (2 * Math.PI * sc.q));
       }
       const p = this.prop.phi;
-      const y = p[0] * this.y + p[1] * this.v;
-      const v = p[2] * this.y + p[3] * this.v;
-      if (this.kT > 0) {
+      let y = p[0] * this.y + p[1] * this.v;
+      let v = p[2] * this.y + p[3] * this.v;
+      if (torque) {
+        let sum = 0;
+        for (let j = 0; j < ou.length; j++) sum += ou[j];
+        const tq = this.torqueScale * sum;
+        torque[i] = tq;
+        y += this.prop.input[0] * tq;
+        v += this.prop.input[1] * tq;
+        for (let j = 0; j < ou.length; j++) ou[j] = decay[j] * ou[j] + drive[j] * this.rng.normal();
+        this.y = y;
+        this.v = v;
+      } else if (this.kT > 0) {
         n1[0] = this.rng.normal();
         n1[1] = this.rng.normal();
         const L = this.prop.chol;

@@ -72,8 +72,10 @@ export const scenarioSchema = z.strictObject({
   /** torsion constant at the reference temperature, N·m/rad (or give fibre) */
   kappa_Nm_per_rad: pos().optional(),
   fibre: fibreSchema.optional(),
-  /** quality factor; damping is modelled as viscous with b = I·ω₀/Q */
+  /** quality factor; the oscillator's damping is b = I·ω₀/Q either way (drivers/simulator/balance.ts) */
   q: z.number('must be a number').gt(0.5, 'must be > 0.5 (underdamped)'),
+  /** what drives the thermal torque: 'viscous' (white, the default here) or 'internal' (loss angle 1/Q: 1/f) */
+  damping: z.enum(['viscous', 'internal'], { error: 'must be "viscous" or "internal"' }).default('viscous'),
   /** mean temperature, K (default 295) */
   temperature_K: pos().default(295),
   /** thermal torque noise on/off (default true) */

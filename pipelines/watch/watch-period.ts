@@ -10,7 +10,9 @@
  * threshold of the baseline, once their temperatures span `tempMinSpan_K`.
  *
  * Raise rule: CUSUM statistic > h AND the latest window's shift ≥
- * raiseFraction × period_change_ppm on the same side (see the option).
+ * raiseFraction × period_change_ppm on the same side (see the option) AND
+ * that shift is beyond 3σ of the window's own (honest) σ, which is at most a
+ * sixth of the change: a swing that has decayed into the noise cannot raise.
  */
 import type { Observable } from 'rxjs';
 import type { Incident } from '../../src/domain/events.js';
@@ -44,6 +46,15 @@ export interface WatchPeriodOptions extends AlertTuning {
    */
   raiseFraction?: number;
 }
+
+/** A raising window's shift must exceed this many of its own σ's … */
+const SIGNIFICANCE_Z = 3;
+/**
+ * … and its σ be at most this share of the change to detect: with the 0.7 share above a raising shift is
+ * then ≥ 4σ, which honest, correlated windows (neighbours share most of their phase walk) reach by chance
+ * about once in a few weeks rather than daily
+ */
+const RESOLUTION_SHARE = 1 / 6;
 
 /** Watch the window periods for a change beyond period_change_ppm; emits period-drift incidents. */
 export function watchPeriod(opts: WatchPeriodOptions = {}) {
@@ -111,7 +122,10 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
           t,
           stat: g,
           statThreshold: co.h,
-          significant: Math.abs(r) >= raiseFrac * delta && Math.sign(r) === side,
+          // and beyond 3σ of its own, from a window that resolves the change (σ ≤ ⅙ of it): when the swing has
+          // decayed into the noise its period wanders by hundreds of ppm within honest error bars, and that is
+          // not a change of the fibre
+          significant: Math.abs(r) >= raiseFrac * delta && Math.sign(r) === side && sr <= RESOLUTION_SHARE * delta && Math.abs(r) >= SIGNIFICANCE_Z * sr,
           value: shift * 1e6,
           threshold: ppm,
           message: (st) => st === 'cleared'

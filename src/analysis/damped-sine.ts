@@ -33,6 +33,7 @@ import type { WindowResult } from '../domain/window-result.js';
 import { FIT_STATUS, type FitStatus } from './fit-status.js';
 import { choleskyInPlace, choleskySolve, spdInverse } from './linalg.js';
 import { periodSeed } from './period-seed.js';
+import { noiseFromDifferences } from './difference-noise.js';
 
 /** Order of the physical parameters in `covariance`. */
 export const DAMPED_SINE_PARAMS = [
@@ -65,6 +66,8 @@ export interface DampedSineOptions {
   minPeriods?: number;
   /** amplitude below which the oscillation counts as absent, rad (default 0) */
   noiseFloor?: number;
+  /** apply judgeOscillation here (default true); false leaves it to a caller that widens the σ's first */
+  judge?: boolean;
   /** known white-noise standard deviation per sample, rad, for chi2_red (default: estimated from high-order differences of the data) */
   noiseSigma?: number;
   /** shortest accepted period, s (default 3 sample intervals) */
@@ -176,28 +179,24 @@ function accumulate(
 }
 
 /**
- * Noise standard deviation from the k-th differences of consecutive unmasked
- * samples (k = 6): Var(Δᵏ of white noise) = C(2k, k)·σ², while a sine with
- * ≥ 20 samples per period is suppressed by (2·sin(π/20))⁶ ≈ 1e-3. Common
- * practice, no source. It sees only the high-frequency noise: after a
- * low-pass filter it underestimates σ, and chi2_red then exceeds 1.
+ * The checks an oscillation must pass to be accepted, on its final standard
+ * errors: the amplitude significant (> 5σ and above `floor`), the decay not
+ * significantly negative (rate < −3σ: a growing swing) and not overdamped
+ * (Q = π/(γ·T₀) < 0.5, ω₀² = ω_d² + γ²). Null when it passes.
  */
-export function noiseFromDifferences(y: Float64Array, mask?: Uint8Array, order = 6): number {
-  const k = order;
-  const coef = new Float64Array(k + 1); // (−1)^j·C(k, j)
-  let norm = 1; // C(2k, k) = Σ C(k, j)²
-  coef[0] = 1;
-  for (let j = 1; j <= k; j++) coef[j] = (-coef[j - 1] * (k - j + 1)) / j;
-  for (let i = 1; i <= k; i++) norm = (norm * (k + i)) / i;
-  let sum = 0, count = 0, run = 0;
-  for (let i = 0; i < y.length; i++) {
-    if ((mask && mask[i]) || !Number.isFinite(y[i])) { run = 0; continue; }
-    if (++run <= k) continue;
-    let d = 0;
-    for (let j = 0; j <= k; j++) d += coef[j] * y[i - j];
-    sum += d * d; count++;
+export function judgeOscillation(
+  v: { amplitude_rad: number; amplitude_sigma_rad: number; decay_rate_per_s: number; decay_rate_sigma_per_s: number; period_s: number },
+  floor = 0,
+): { status: FitStatus; message: string } | null {
+  const { amplitude_rad: amp, amplitude_sigma_rad: sa, decay_rate_per_s: rate, decay_rate_sigma_per_s: sr } = v;
+  if (!(amp > 5 * sa) || !(amp > floor)) {
+    return { status: FIT_STATUS.amplitudeBelowNoise, message: `amplitude ${amp.toExponential(3)} rad vs σ ${sa.toExponential(2)}, floor ${floor.toExponential(2)} rad` };
   }
-  return count > 0 ? Math.sqrt(sum / count / norm) : NaN;
+  const omd = TWO_PI / v.period_s;
+  if (rate < -3 * sr || (rate > 0 && Math.sqrt(omd * omd + rate * rate) / (2 * rate) < 0.5)) {
+    return { status: FIT_STATUS.decayUnphysical, message: `decay rate ${rate.toExponential(3)} ± ${sr.toExponential(2)} /s` };
+  }
+  return null;
 }
 
 /** Fit θ_eq + d·(t − t_mid) + A·e^(−(t − t_mid)/τ)·cos(2π(t − t_mid)/T + φ) to one window, with covariance. */
@@ -353,14 +352,9 @@ export function fitDampedSine(t: Float64Array, y: Float64Array, opts: DampedSine
   }
   const noiseGiven = opts.noiseSigma !== undefined;
   const noise = noiseGiven ? (opts.noiseSigma as number) : noiseFromDifferences(y, mask);
-  const floor = opts.noiseFloor ?? 0;
-  if (!(amp > 5 * sig[2]) || amp <= floor) {
-    return rejected(FIT_STATUS.amplitudeBelowNoise, `amplitude ${amp.toExponential(3)} rad vs σ ${sig[2].toExponential(2)}, floor ${floor}`, tMid, n, iter);
-  }
-  // overdamped: Q = π/(γ·T₀) < 0.5, with ω₀² = ω_d² + γ²
-  const omd = TWO_PI / period;
-  if (rate < -3 * sig[5] || (rate > 0 && Math.sqrt(omd * omd + rate * rate) / (2 * rate) < 0.5)) {
-    return rejected(FIT_STATUS.decayUnphysical, `decay rate ${rate.toExponential(3)} ± ${sig[5].toExponential(2)} /s`, tMid, n, iter);
+  if (opts.judge !== false) {
+    const j = judgeOscillation({ amplitude_rad: amp, amplitude_sigma_rad: sig[2], decay_rate_per_s: rate, decay_rate_sigma_per_s: sig[5], period_s: period }, opts.noiseFloor ?? 0);
+    if (j) return rejected(j.status, j.message, tMid, n, iter);
   }
   const tau = rate > 0 ? 1 / rate : null;
   return {

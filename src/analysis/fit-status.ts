@@ -25,6 +25,8 @@ export const FIT_STATUS = {
   decayUnphysical: 'decay-unphysical',
   /** the normal matrix is singular: parameters not identifiable from these samples */
   singular: 'singular-matrix',
+  /** the residuals exceed what the readout and the thermally driven motion leave by more than 100× in variance, and a tenth of the swing: the model does not describe the data */
+  residualExcess: 'residual-excess',
   /**
    * the analysis threw (a program fault, not a property of the data): the window is kept unfitted
    * and the run goes on; the message is in the run's `internal-error` event for this window

@@ -86,12 +86,14 @@ export function periodSeed(t: Float64Array, y: Float64Array, opts: PeriodSeedOpt
   const tMid = opts.tMid ?? 0.5 * (t[0] + t[n - 1]);
 
   // trend by least squares on unmasked samples
-  let m = 0, st = 0, sy = 0;
+  // a masked sample's time is not trusted either (a placeholder): the grid is checked between unmasked ones
+  let m = 0, st = 0, sy = 0, last = -1;
   for (let i = 0; i < n; i++) {
     if (mask && mask[i]) continue;
     const ti = t[i], yi = y[i];
     if (!Number.isFinite(ti) || !Number.isFinite(yi)) return fail('non-finite-input', tMid);
-    if (i > 0 && Math.abs(t[i] - t[i - 1] - dt) > 0.5 * dt) return fail('non-uniform-sampling', tMid);
+    if (last >= 0 && Math.abs(t[i] - t[last] - (i - last) * dt) > 0.5 * dt) return fail('non-uniform-sampling', tMid);
+    last = i;
     m++; st += ti - tMid; sy += yi;
   }
   if (m < 8) return fail('too-few-samples', tMid);

@@ -26,7 +26,7 @@
  *
  * D is measured on the run's own windows, not assumed: second differences of
  * the periods (and, separately, of the decay rates) of non-overlapping windows
- * spaced one window length apart, x_k − 2·x_{k+m} + x_{k+2m}, have variance
+ * spaced 1.5 window lengths apart, x_k − 2·x_{k+m} + x_{k+2m}, have variance
  * v_k + 4·v_{k+m} + v_{k+2m} with v = σ_fit² + D·g (g the shape above), since
  * disjoint windows see independent readout noise and independent stretches of
  * the walk, and a linear drift (a slow temperature change, creep) cancels.
@@ -38,10 +38,17 @@
 
 /** k_B, J/K (exact, SI 2019) — kept here so the numerics need nothing of the app. */
 const K_B = 1.380649e-23;
+/** new triplets between two solves of D */
+const REFRESH = 16;
 /** median of χ² with one degree of freedom */
 const CHI2_1_MEDIAN = 0.454936423119572;
-/** E[χ²₁ | χ²₁ < 9] */
-const TRUNCATED_MEAN_3SIGMA = 0.97333;
+/**
+ * spacing of a triplet's windows, in window lengths: more than one, because
+ * windows that just touch share a little of their errors (measured: a 4 %
+ * correlation of neighbours' periods in thermal noise), which would make the
+ * second differences read D low
+ */
+const SPACING = 1.5;
 const TWO_PI = 2 * Math.PI;
 
 /** The fluctuation–dissipation diffusion of the complex amplitude, D = 4·k_B·T·γ/κ (rad²/s). */
@@ -66,6 +73,8 @@ export interface ExtraVariance {
   period_s2: number;
   decay_rate_per_s2: number;
   equilibrium_rad2: number;
+  /** what the same motion leaves in the residuals, per sample (thermalResidualVariance) */
+  residual_rad2: number;
 }
 
 /** Shape factors g with var = D·g. */
@@ -88,6 +97,7 @@ export function extraVariance(dPeriod: number, dRate: number, w: { period_s: num
     period_s2: dPeriod * periodShape(w.period_s, w.amplitude_rad, w.span_s),
     decay_rate_per_s2: dRate * rateShape(w.amplitude_rad, w.span_s),
     equilibrium_rad2: dPeriod * eqShape,
+    residual_rad2: thermalResidualVariance(dPeriod, w.period_s, w.span_s, damping),
   };
 }
 
@@ -124,11 +134,11 @@ function solveFor(stat: (D: number) => number, target: number, ts: readonly Trip
 }
 
 /**
- * D from triplets, robust and nearly as efficient as a mean: first the D that
- * makes the median of r = d²/(fit + D·shape) the χ²₁ median; then, leaving out
- * the triplets with r > 9 there (beyond 3σ: a bump, a step), the D that makes
- * the mean of r over the rest E[χ²₁ | χ²₁ < 9] = 0.97333 (for a unit normal z:
- * (P(|z|<3) − 6·φ(3))/P(|z|<3), with P = 0.99730 and φ(3) = 0.0044318).
+ * D from triplets, robust and as efficient as a mean: first the D that makes
+ * the median of r = d²/(fit + D·shape) the χ²₁ median; then, leaving out the
+ * triplets with r > 25 there (beyond 5σ: a bump, a step — a normal triplet
+ * lands there once in two million), the D that makes the mean of r over the
+ * rest 1, as it is for χ²₁ (the 5σ cut lowers it by 1e-5).
  */
 function solveDiffusion(ts: readonly Triplet[]): number {
   const r = (t: Triplet, D: number) => (t.d * t.d) / (t.fit + D * t.shape);
@@ -138,10 +148,10 @@ function solveDiffusion(ts: readonly Triplet[]): number {
     return v.length & 1 ? v[h] : 0.5 * (v[h - 1] + v[h]);
   };
   const d0 = solveFor(median, CHI2_1_MEDIAN, ts);
-  const kept = ts.filter((t) => r(t, d0) < 9);
+  const kept = ts.filter((t) => r(t, d0) < 25);
   if (kept.length < ts.length / 2) return d0;
   const mean = (D: number): number => kept.reduce((a, t) => a + r(t, D), 0) / kept.length;
-  return solveFor(mean, TRUNCATED_MEAN_3SIGMA, kept);
+  return solveFor(mean, 1, kept);
 }
 
 /**
@@ -157,6 +167,8 @@ export class DiffusionEstimator {
   private readonly maxTriplets: number;
   private readonly minTriplets: number;
   private cache: { period: number; rate: number } | null = null;
+  /** triplets added since the last solve */
+  private added = 0;
 
   constructor(opts: DiffusionEstimatorOptions = {}) {
     this.maxTriplets = opts.maxTriplets ?? 480;
@@ -168,18 +180,26 @@ export class DiffusionEstimator {
     return this.periodTriplets.length;
   }
 
-  /** D from the periods and from the decay rates, rad²/s; undefined until minTriplets exist. */
+  /**
+   * D from the periods and from the decay rates, rad²/s; undefined until
+   * minTriplets exist. Solved again every REFRESH new triplets (D moves
+   * slowly; a solve costs a few sorts of the held triplets).
+   */
   estimate(): { period: number; rate: number } | undefined {
-    if (this.periodTriplets.length < this.minTriplets) return undefined;
-    this.cache ??= { period: solveDiffusion(this.periodTriplets), rate: solveDiffusion(this.rateTriplets) };
+    const n = this.periodTriplets.length;
+    if (n < this.minTriplets) return undefined;
+    if (!this.cache || this.added >= REFRESH || n < 4 * this.minTriplets) {
+      this.cache = { period: solveDiffusion(this.periodTriplets), rate: solveDiffusion(this.rateTriplets) };
+      this.added = 0;
+    }
     return this.cache;
   }
 
   /** Add a window; forms the triplet that ends at it when its two predecessors one and two window lengths back exist. */
   push(s: DiffusionSample): void {
     const h = this.history;
-    const j1 = this.partner(s, s.span_s);
-    const j2 = j1 ? this.partner(s, 2 * s.span_s) : undefined;
+    const j1 = this.partner(s, SPACING * s.span_s);
+    const j2 = j1 ? this.partner(s, 2 * SPACING * s.span_s) : undefined;
     if (j1 && j2) {
       const add = (list: Triplet[], t: Triplet) => {
         list.push(t);
@@ -195,11 +215,11 @@ export class DiffusionEstimator {
         fit: j2.decay_rate_fit_sigma_per_s ** 2 + 4 * j1.decay_rate_fit_sigma_per_s ** 2 + s.decay_rate_fit_sigma_per_s ** 2,
         shape: rateShape(j2.amplitude_rad, j2.span_s) + 4 * rateShape(j1.amplitude_rad, j1.span_s) + rateShape(s.amplitude_rad, s.span_s),
       });
-      this.cache = null;
+      this.added++;
     }
     h.push(s);
-    // keep a little more than two window lengths of history
-    while (h.length > 2 && h[0].t_mid_s < s.t_mid_s - 2.5 * s.span_s) h.shift();
+    // keep a little more than the triplet's reach
+    while (h.length > 2 && h[0].t_mid_s < s.t_mid_s - (2 * SPACING + 0.5) * s.span_s) h.shift();
   }
 
   /** The held window whose middle is `lag` before s's, within a quarter of a window step. */
@@ -212,4 +232,152 @@ export class DiffusionEstimator {
     }
     return best && bestErr <= 0.125 * s.span_s ? best : undefined;
   }
+}
+
+/** How many triplets the fluctuation–dissipation prior is worth when blended with a measurement. */
+const PRIOR_TRIPLETS = 20;
+
+/** What the window noise model knows of the balance. */
+export interface WindowNoiseModelOptions {
+  /** the damping model (internal: a constant loss angle; viscous: gas) */
+  damping: Damping;
+  /** moment of inertia, kg·m², for the fluctuation–dissipation prior (none: no prior) */
+  inertia_kg_m2?: number;
+  /** temperature for the prior when a window has no temp_C, K (default 295) */
+  temperature_K?: number;
+  estimator?: DiffusionEstimatorOptions;
+}
+
+/**
+ * The run's model of the noise the residuals cannot show: D measured on the
+ * windows so far, or, before there are enough, the fluctuation–dissipation
+ * value 4·k_B·T·γ/κ (κ = I·ω² from the window's own period; T from its
+ * temperature channel or the stated temperature). Feed it every window's
+ * result in order (`observe`); ask it for a window's extra variance (`extra`).
+ */
+export class WindowNoiseModel {
+  private readonly estimator: DiffusionEstimator;
+
+  constructor(private readonly opts: WindowNoiseModelOptions) {
+    this.estimator = new DiffusionEstimator(opts.estimator);
+  }
+
+  /** Where D comes from now: 'measured' (the run's windows), 'thermal' (the prior) or 'none'. */
+  get source(): 'measured' | 'thermal' | 'none' {
+    return this.estimator.estimate() ? 'measured' : this.opts.inertia_kg_m2 ? 'thermal' : 'none';
+  }
+
+  /**
+   * The extra variances of a window with these fitted values; undefined when
+   * there is neither a measurement nor a prior. With both, D is their mean
+   * weighted by triplets, the prior counting as PRIOR_TRIPLETS: short runs
+   * get the physics, long ones their own measurement.
+   */
+  extra(w: { period_s: number; amplitude_rad: number; span_s: number; decay_rate_per_s: number; temp_C: number | null }): ExtraVariance | undefined {
+    if (!(w.amplitude_rad > 0) || !(w.span_s > 0) || !(w.period_s > 0)) return undefined;
+    const est = this.estimator.estimate();
+    const I = this.opts.inertia_kg_m2;
+    let prior: number | undefined;
+    if (I) {
+      const kappa = I * (TWO_PI / w.period_s) ** 2;
+      const T = w.temp_C !== null && Number.isFinite(w.temp_C) ? w.temp_C + 273.15 : this.opts.temperature_K ?? 295;
+      prior = thermalDiffusion(T, kappa, w.decay_rate_per_s);
+    }
+    if (!est) return prior === undefined ? undefined : extraVariance(prior, prior, w, this.opts.damping);
+    if (prior === undefined) return extraVariance(est.period, est.rate, w, this.opts.damping);
+    const n = this.estimator.triplets;
+    const blend = (x: number) => (n * x + PRIOR_TRIPLETS * prior!) / (n + PRIOR_TRIPLETS);
+    return extraVariance(blend(est.period), blend(est.rate), w, this.opts.damping);
+  }
+
+  /** Take an accepted window into the measurement (its fit-only σ's, before any extra). */
+  observe(s: DiffusionSample): void {
+    if ([s.period_s, s.period_fit_sigma_s, s.decay_rate_per_s, s.decay_rate_fit_sigma_per_s, s.amplitude_rad].every(Number.isFinite) && s.amplitude_rad > 0) this.estimator.push(s);
+  }
+}
+
+/**
+ * Fraction of a sinusoid's power at x·f₀ that a window's fit leaves in its
+ * residuals, phase-averaged: the fit's columns [1, t, cos, sin, t·cos, t·sin]
+ * at f₀ (the damped sine linearised in frequency and decay) over a span of
+ * `periods` periods, projected out numerically (400 points, Gram–Schmidt).
+ */
+function residualResponse(periods: number): (x: number) => number {
+  const n = 400;
+  const t = Float64Array.from({ length: n }, (_, i) => (i / (n - 1) - 0.5) * periods); // in periods
+  const cols = [
+    (u: number) => 1, (u: number) => u,
+    (u: number) => Math.cos(TWO_PI * u), (u: number) => Math.sin(TWO_PI * u),
+    (u: number) => u * Math.cos(TWO_PI * u), (u: number) => u * Math.sin(TWO_PI * u),
+  ];
+  const basis: Float64Array[] = [];
+  for (const c of cols) {
+    const v = Float64Array.from(t, c);
+    for (const b of basis) {
+      let d = 0;
+      for (let i = 0; i < n; i++) d += v[i] * b[i];
+      for (let i = 0; i < n; i++) v[i] -= d * b[i];
+    }
+    let nn = 0;
+    for (let i = 0; i < n; i++) nn += v[i] * v[i];
+    const s = 1 / Math.sqrt(nn);
+    for (let i = 0; i < n; i++) v[i] *= s;
+    basis.push(v);
+  }
+  const left = (v: Float64Array): number => {
+    let total = 0, kept = 0;
+    for (let i = 0; i < n; i++) total += v[i] * v[i];
+    for (const b of basis) {
+      let d = 0;
+      for (let i = 0; i < n; i++) d += v[i] * b[i];
+      kept += d * d;
+    }
+    return Math.max(total - kept, 0) / total;
+  };
+  const c = new Float64Array(n), s = new Float64Array(n);
+  return (x) => {
+    for (let i = 0; i < n; i++) { c[i] = Math.cos(TWO_PI * x * t[i]); s[i] = Math.sin(TWO_PI * x * t[i]); }
+    return 0.5 * (left(c) + left(s));
+  };
+}
+
+const residualFactors = new Map<string, number>();
+
+/**
+ * ∫ g(x)·r(x) dx over x = f/f₀ for the thermally driven angle's spectral shape
+ * g (viscous: 1/(1 − x²)²; internal: 1/(x·(1 − x²)²)) and the window's
+ * residual response r: how much of the thermal motion a window of `periods`
+ * periods leaves in its residuals. Q matters only where r ≈ 0 and is left out.
+ */
+function residualFactor(periods: number, damping: Damping): number {
+  const key = `${periods.toFixed(2)}:${damping}`;
+  let v = residualFactors.get(key);
+  if (v !== undefined) return v;
+  const r = residualResponse(periods);
+  const g = damping === 'viscous' ? (x: number) => 1 / (1 - x * x) ** 2 : (x: number) => 1 / (x * (1 - x * x) ** 2);
+  // Simpson on pieces, fine around the resonance where g is large and r small
+  const simpson = (a: number, b: number, m: number): number => {
+    const h = (b - a) / m;
+    let acc = 0;
+    for (let k = 0; k <= m; k++) {
+      const x = a + k * h;
+      const f = Math.abs(x - 1) < 1e-9 ? 0 : g(x) * r(x);
+      acc += f * (k === 0 || k === m ? 1 : k % 2 ? 4 : 2);
+    }
+    return (acc * h) / 3;
+  };
+  v = simpson(1e-4, 0.8, 800) + simpson(0.8, 1.2, 2000) + simpson(1.2, 12, 1600);
+  residualFactors.set(key, v);
+  return v;
+}
+
+/**
+ * The variance the thermally driven motion leaves in a window's residuals,
+ * per sample, rad²: (2D/ω₀²)·f₀·∫ g(x)·r(x) dx (S_θ = (2D/ω₀²)·g below and
+ * above the resonance, see the file comment). What χ²_red expects beside the
+ * readout noise.
+ */
+export function thermalResidualVariance(D: number, period_s: number, span_s: number, damping: Damping): number {
+  const w0 = TWO_PI / period_s;
+  return ((2 * D) / (w0 * w0)) * (1 / period_s) * residualFactor(span_s / period_s, damping);
 }

@@ -27,6 +27,7 @@ export function demoStory(hours: number): DemoStory {
     inertia_kg_m2: inertia,
     fibre: { name: fibre.name, material: fibre.material, diameter_m: fibre.diameter_m, length_m: fibre.length_m },
     q: 2500,
+    damping: 'internal',
     temperature_K: 295.15,
     thermal_noise: true,
     angle_noise_rad: 2e-7,

@@ -12,6 +12,7 @@ import { fileURLToPath } from 'node:url';
 import { PassThrough } from 'node:stream';
 import { parseStation } from '../config/station.js';
 import { openStore } from '../../db/open.js';
+import { sqliteReadStore } from '../../db/read-store.js';
 import { getRun, updateRunStartedAt } from '../../db/runs.js';
 import { parseScenario } from '../../drivers/simulator/scenario.js';
 import { runSimulator } from '../../drivers/simulator/run-simulator.js';
@@ -117,9 +118,10 @@ export async function runDemo(opts: DemoOptions): Promise<DemoResult> {
     // the story ran faster than real time: date it so that it ends now
     const run = getRun(db, runId)!;
     if (run.ended_at_ms !== null) updateRunStartedAt(db, runId, Date.now() - (run.ended_at_ms - run.started_at_ms));
-    const summary = buildSummary(db, runId);
+    const store = sqliteReadStore(db, dbPath);
+    const summary = await buildSummary(store, runId);
     const reportPath = join(out, 'report.html');
-    writeFileSync(reportPath, renderReport(db, runId));
+    writeFileSync(reportPath, await renderReport(store, runId));
     return { summary, dbPath, reportPath, mode, alerts };
   } finally {
     db.close();

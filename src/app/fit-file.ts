@@ -3,8 +3,10 @@ import type { Station } from '../config/station.js';
 import type { WindowResult } from '../domain/window-result.js';
 import { FLAG_INVALID, FLAG_SATURATED } from '../domain/block.js';
 import { analyseWindow } from '../analysis/window-analysis.js';
+import { WindowNoiseModel } from '../analysis/phase-diffusion.js';
 import { readRecording } from './read-recording.js';
-import { deriveContextFor, twistLimitFor } from '../config/derive-context.js';
+import { deriveContextFor, systematicsFor, twistLimitFor } from '../config/derive-context.js';
+import { combinedRelative, kappaSystematics, shearModulusSystematics } from '../analysis/systematics.js';
 
 /** The fitted numbers of docs/commands.md's `fit` output, as a window stores them. */
 type FitNumbers = Pick<WindowResult,
@@ -35,11 +37,14 @@ export async function fitFile(path: string, station: Station): Promise<FileFit> 
   let masked = 0;
   for (let i = 0; i < n; i++) {
     if (rec.flags[i] & (FLAG_SATURATED | FLAG_INVALID) || !Number.isFinite(rec.angle[i])) { mask[i] = 1; masked++; }
-    if (!Number.isFinite(rec.angle[i])) seedMask[i] = 1;
+    // a saturated value still helps find the period; an invalid one (bad time or value) does not
+    if (rec.flags[i] & FLAG_INVALID || !Number.isFinite(rec.angle[i])) seedMask[i] = 1;
   }
   const w = { index: 0, t: rec.t, y: rec.angle, mask, seedMask, temp: rec.temp, t_start_s: n ? rec.t[0] : 0, t_end_s: n ? rec.t[n - 1] : 0 };
   const ctx = deriveContextFor(station);
-  const { result: r } = n >= 2 ? analyseWindow(w, { derive: ctx }) : { result: null };
+  // the same noise model a run starts with (phase-diffusion.ts): the fluctuation–dissipation value when the inertia is known
+  const noise = new WindowNoiseModel({ damping: station.pendulum.damping, inertia_kg_m2: ctx.inertia_kg_m2, temperature_K: station.environment.temperature_K });
+  const { result: r } = n >= 2 ? analyseWindow(w, { derive: ctx, extraVariance: (x) => noise.extra(x) }) : { result: null };
   const out: FileFit = {
     file: path,
     status: r ? r.status : 'too-few-samples',
@@ -57,11 +62,16 @@ export async function fitFile(path: string, station: Station): Promise<FileFit> 
     max_twist_rad: null,
   };
   if (ctx.inertia_kg_m2 !== undefined) {
+    // the window carries its statistical σ; the hand-measured inertia and dimensions enter once, here (systematics.ts)
+    const sys = systematicsFor(station);
+    const total = (v: number | null | undefined, stat: number | null | undefined, rel: number): number | null =>
+      v === null || v === undefined || stat === null || stat === undefined ? null : Math.hypot(stat, Math.abs(v) * rel);
     out.kappa_Nm_per_rad = r?.kappa_Nm_per_rad ?? null;
-    out.kappa_sigma_Nm_per_rad = r?.kappa_sigma_Nm_per_rad ?? null;
+    out.kappa_sigma_Nm_per_rad = total(r?.kappa_Nm_per_rad, r?.kappa_sigma_Nm_per_rad, combinedRelative(kappaSystematics(ctx, sys)));
     if (ctx.length_m !== undefined && (ctx.diameter_m !== undefined || ctx.width_m !== undefined)) {
+      const terms = r?.kappa_Nm_per_rad != null ? shearModulusSystematics(r.kappa_Nm_per_rad, ctx, sys) : null;
       out.shear_modulus_Pa = r?.shear_modulus_Pa ?? null;
-      out.shear_modulus_sigma_Pa = r?.shear_modulus_sigma_Pa ?? null;
+      out.shear_modulus_sigma_Pa = total(r?.shear_modulus_Pa, r?.shear_modulus_sigma_Pa, terms ? combinedRelative(terms) : 0);
     }
   }
   // the twist the fibre saw: largest excursion from the fitted (or median) equilibrium
@@ -74,7 +84,9 @@ export async function fitFile(path: string, station: Station): Promise<FileFit> 
     if (lim) {
       out.twist_limit_rad = lim.theta_max_rad;
       if (m >= station.alerts.twist_fraction * lim.theta_max_rad) {
-        out.caution = `twist of ${(m / (2 * Math.PI)).toFixed(2)} turns reaches ${((100 * m) / lim.theta_max_rad).toFixed(0)} % of this fibre's elastic limit (${lim.turns.toFixed(1)} turns; ${lim.basis}). `
+        // the limit combines the twist's shear with the load's tension (von Mises, twist.ts)
+        const reach = lim.theta_max_rad > 0 ? `reaches ${((100 * m) / lim.theta_max_rad).toFixed(0)} % of this fibre's elastic limit (${lim.turns.toFixed(1)} turns` : 'exceeds this fibre\'s elastic limit (none is left: the suspended load alone reaches the allowable stress';
+        out.caution = `twist of ${(m / (2 * Math.PI)).toFixed(2)} turns ${reach}; shear from the twist and tension from the load combined; ${lim.basis}). `
           + 'Beyond it the fibre can set permanently or break, dropping the suspended mass: reduce the swing, use a catcher, stay within the rated load. '
           + 'This limit is guidance, not certification; local codes and licensed practice govern.';
       }

@@ -83,6 +83,7 @@ export function makeLiveSink(station: Station, session: RunSession, opts: LiveSi
     analysis: a,
     derive: deriveContextFor(station),
     quantum_rad: quantum,
+    noise: { damping: station.pendulum.damping, temperature_K: station.environment.temperature_K },
     onIncident: (inc) => session.incident(runTimeIncident(inc)),
     onFirstEstimate: (period, factor) => log(`first period estimate ${period.toPrecision(5)} s: fitting at ${factor > 1 ? `1/${factor} of the input rate` : 'the input rate'}`),
   });

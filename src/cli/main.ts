@@ -6,6 +6,7 @@
 import { Command, CommanderError, Option } from 'commander';
 import { ConfigError } from '../config/config-file.js';
 import { RuntimeError, UsageError } from '../domain/errors.js';
+import { safeText } from '../display/safe-text.js';
 
 const dbOption = () =>
   new Option('--db <path>', 'SQLite store (default $FIBREWATCH_DB, else ./fibrewatch.db)');
@@ -120,6 +121,12 @@ export function buildProgram(): Command {
     .option('--json', 'JSON array')
     .action(lazy('events', 'eventsCommand'));
 
+  onRun('noise', 'the balance\'s noise, torque-referred, against its thermal limit; Allan deviations of equilibrium and period')
+    .option('--from-s <s>', 'start of the span, s since the run\'s start')
+    .option('--to-s <s>', 'end of the span (exclusive), s since the run\'s start')
+    .option('--json', 'one JSON object')
+    .action(lazy('noise', 'noiseCommand'));
+
   p.command('fibres')
     .description('fibres known to the store')
     .addOption(dbOption())
@@ -143,6 +150,14 @@ export function buildProgram(): Command {
     .requiredOption('--out <file>', 'HTML file to write')
     .action(lazy('report', 'reportCommand'));
 
+  p.command('check')
+    .description('verify a store: SQLite\'s integrity check and every sample chunk\'s checksum (exit 1 when anything is wrong)')
+    .argument('[run]', 'check only this run\'s samples', runArg)
+    .addOption(dbOption())
+    .option('--mark', 'also store a corrupt-chunk event in each run with a bad chunk (needs write access)')
+    .option('--json', 'the findings as one JSON object')
+    .action(lazy('check', 'checkCommand'));
+
   p.command('ports')
     .description('serial devices on this machine (prefer the /dev/serial/by-id paths)')
     .option('--json')
@@ -162,26 +177,32 @@ export async function main(argv: string[]): Promise<void> {
   try {
     await program.parseAsync(argv);
   } catch (e) {
-    process.exitCode = exitFor(e);
+    process.exitCode = await exitFor(e);
   }
   // benchmarks read the command's own peak memory from here
   if (process.env.FIBREWATCH_REPORT_RSS) process.stderr.write(`maxRSS_bytes=${process.resourceUsage().maxRSS * 1024}\n`);
 }
 
-function exitFor(e: unknown): number {
+async function exitFor(e: unknown): Promise<number> {
   if (e instanceof CommanderError) {
     if (e.code === 'commander.helpDisplayed' || e.code === 'commander.version' || e.code === 'commander.help') return 0;
     return 2; // commander already printed the message
   }
-  if (e instanceof UsageError || e instanceof ConfigError) {
-    process.stderr.write(`fibrewatch: ${e.message}\n`);
+  // an SQLite fault anywhere in a command's work is a fault of the store: one line naming it
+  // (src/cli/store.ts is loaded only then, so commands without a store start without SQLite)
+  const code = (e as { code?: unknown })?.code;
+  const f = (typeof code === 'string' && code.startsWith('SQLITE_') ? (await import('./store.js')).storeFault(e) : undefined) ?? e;
+  if (f instanceof UsageError || f instanceof ConfigError) {
+    process.stderr.write(`fibrewatch: ${safeText(f.message)}\n`);
     return 2;
   }
-  if (e instanceof RuntimeError) {
-    process.stderr.write(`fibrewatch: ${e.message}\n`);
+  if (f instanceof RuntimeError) {
+    process.stderr.write(`fibrewatch: ${safeText(f.message)}\n`);
     return 1;
   }
-  const err = e as Error;
-  process.stderr.write(`fibrewatch: ${err?.stack ?? err}\n`);
+  // a fault of the program itself: one line, the stack when asked for (docs/commands.md, "Environment")
+  const err = f as Error;
+  if (process.env.FIBREWATCH_DEBUG) process.stderr.write(`fibrewatch: ${err?.stack ?? err}\n`);
+  else process.stderr.write(`fibrewatch: internal error: ${safeText(err instanceof Error ? `${err.name}: ${err.message}` : String(err))} (FIBREWATCH_DEBUG=1 shows where)\n`);
   return 1;
 }

@@ -6,6 +6,21 @@
 import { z } from 'zod';
 import { ConfigError, readJsonFile, validateConfig } from './config-file.js';
 import { columnRole, fibreGeometry, finite, nonNegative, partSchema, positive as pos, positiveInt, sensorSchema } from './schema-parts.js';
+import { TIME_ROLES } from '../domain/block.js';
+import { inertiaFromParts, InertiaPartError } from '../physics/inertia.js';
+import { lookupMaterial, materialNames } from '../physics/materials.js';
+
+/**
+ * A number > 0 within [lo, hi] (docs/commands.md, "Keys", gives each range and
+ * why): values outside a physical range are slips that would hang or flood a run.
+ */
+const within = (lo: number, hi: number, unit = '') => {
+  const u = unit ? ` ${unit}` : '';
+  return pos().min(lo, `must be ≥ ${lo}${u}`).max(hi, `must be ≤ ${hi}${u}`);
+};
+/** Alert deliveries go to web servers only: a file: or javascript: URL is a slip or an attack. */
+const httpUrl = () =>
+  z.string('must be a string').url('must be a URL').refine((u) => URL.canParse(u) && /^https?:$/i.test(new URL(u).protocol), 'must be an http:// or https:// URL');
 
 const fibreSchema = z.strictObject({
   name: z.string('must be a string').min(1, 'must not be empty'),
@@ -13,6 +28,11 @@ const fibreSchema = z.strictObject({
   /** round fibre (diameter_m) or flat ribbon (width_m ≫ thickness_m); shear_modulus_Pa overrides the materials table */
   ...fibreGeometry,
   length_m: pos().optional(),
+  /** standard uncertainties of the hand-measured dimensions: systematic for a run, they enter its G once */
+  diameter_sigma_m: nonNegative().optional(),
+  length_sigma_m: nonNegative().optional(),
+  width_sigma_m: nonNegative().optional(),
+  thickness_sigma_m: nonNegative().optional(),
   /** overrides the materials table */
   tensile_strength_Pa: pos().optional(),
 });
@@ -24,6 +44,13 @@ const pendulumSchema = z.strictObject({
   mass_kg: pos().optional(),
   /** parts list, when the inertia is to be computed */
   parts: z.array(partSchema).optional(),
+  /** what damps the swing: the fibre's internal friction (a constant loss angle) or gas (viscous) */
+  damping: z.enum(['internal', 'viscous'], { error: 'must be "internal" or "viscous"' }).default('internal'),
+});
+
+const environmentSchema = z.strictObject({
+  /** for thermal-noise figures when no temp_C channel is recorded; absent: 295 K, reported as assumed */
+  temperature_K: pos().optional(),
 });
 
 const channelSchema = z.strictObject({
@@ -42,10 +69,10 @@ const inputSchema = z.strictObject({
   clock_wrap: pos().optional(),
   channels: z.array(channelSchema).min(1, 'must list at least one channel').max(16, 'at most 16 channels').optional(),
   reconnect: z.strictObject({
-    min_delay_s: pos().default(0.25),
-    max_delay_s: pos().default(10),
+    min_delay_s: within(0.01, 3600, 's').default(0.25),
+    max_delay_s: within(0.01, 86400, 's').default(10),
     /** give up after this long without the device (absent: never) */
-    give_up_s: pos().optional(),
+    give_up_s: within(1, 1e8, 's').optional(),
   }).prefault({}),
 });
 
@@ -60,39 +87,39 @@ const sensor = sensorSchema({
 });
 
 const analysisSchema = z.strictObject({
-  window_periods: pos().default(4),
-  step_periods: pos().default(1),
+  window_periods: within(1, 1000, 'periods').default(4),
+  step_periods: within(0.1, 1000, 'periods').default(1),
   /** decimate to about this many samples per period before fitting */
-  samples_per_period: pos().default(40),
+  samples_per_period: within(8, 10000).default(40),
   /** seconds of data for the first FFT period estimate */
-  first_estimate_s: pos().optional(),
+  first_estimate_s: within(1, 604800, 's').optional(),
   /** a prior on the period, if known (speeds the first estimate) */
-  period_guess_s: pos().optional(),
-  hampel_half_width: z.number('must be a number').int('must be an integer').nonnegative('must be ≥ 0').default(5),
-  hampel_threshold: pos().default(5),
+  period_guess_s: within(0.01, 1e6, 's').optional(),
+  hampel_half_width: z.number('must be a number').int('must be an integer').nonnegative('must be ≥ 0').max(1000, 'must be ≤ 1000').default(5),
+  hampel_threshold: within(1, 1000).default(5),
 });
 
 const webhookSchema = z.strictObject({
-  url: z.string('must be a string').url('must be a URL'),
-  timeout_s: pos().default(5),
-  retries: z.number('must be a number').int('must be an integer').nonnegative('must be ≥ 0').default(1000),
-  max_delay_s: pos().default(300),
-  queue_max: positiveInt().default(10000),
+  url: httpUrl(),
+  timeout_s: within(0.1, 600, 's').default(5),
+  retries: z.number('must be a number').int('must be an integer').nonnegative('must be ≥ 0').max(1e6, 'must be ≤ 1000000').default(1000),
+  max_delay_s: within(0.1, 86400, 's').default(300),
+  queue_max: positiveInt().max(1e6, 'must be ≤ 1000000').default(10000),
 });
 
 const commandSchema = z.strictObject({
   argv: z.array(z.string('must be a string')).min(1, 'must name the program'),
-  timeout_s: pos().default(10),
+  timeout_s: within(0.1, 3600, 's').default(10),
 });
 
 const alertsSchema = z.strictObject({
-  equilibrium_rate_rad_per_hour: pos().default(5e-6),
-  period_change_ppm: pos().default(300),
-  no_data_s: pos().default(20),
+  equilibrium_rate_rad_per_hour: within(1e-12, 10, 'rad/h').default(5e-6),
+  period_change_ppm: within(0.001, 1e6, 'ppm').default(300),
+  no_data_s: within(0.1, 604800, 's').default(20),
   /** trailing horizon of the equilibrium creep fit */
-  horizon_h: pos().default(6),
+  horizon_h: within(0.01, 8760, 'h').default(6),
   /** amplitude below which the swing is too small to fit reliably */
-  amplitude_min_rad: pos().optional(),
+  amplitude_min_rad: within(1e-12, 1, 'rad').optional(),
   /** fraction of the elastic twist limit that raises amplitude-limit */
   twist_fraction: z.number('must be a number').gt(0, 'must be > 0').lte(1, 'must be ≤ 1').default(0.5),
   stderr: z.boolean('must be true or false').default(true),
@@ -104,6 +131,7 @@ export const stationSchema = z.strictObject({
   station: z.string('must be a string').min(1, 'must not be empty'),
   fibre: fibreSchema,
   pendulum: pendulumSchema.prefault({}),
+  environment: environmentSchema.prefault({}),
   input: inputSchema.prefault({}),
   sensor: sensor.default({ kind: 'angle' }),
   analysis: analysisSchema.prefault({}),
@@ -137,6 +165,19 @@ function crossCheck(s: Station, source: string): Station {
   if (s.input.format === 'frames' && !s.input.channels) fail('input.channels', 'is required for format "frames"');
   if (s.input.clock_wrap !== undefined && s.input.format === 'frames') fail('input.clock_wrap', 'applies to "lines" only (frames wrap at 2^32 µs)');
   if (s.analysis.step_periods > s.analysis.window_periods) fail('analysis.step_periods', 'must be ≤ analysis.window_periods');
+  if (s.input.reconnect.max_delay_s < s.input.reconnect.min_delay_s) fail('input.reconnect.max_delay_s', 'must be ≥ input.reconnect.min_delay_s');
+  // the decoders would refuse these only when the run starts, with a stack: name the field now
+  const times = (s.input.format === 'frames' ? (s.input.channels ?? []).map((c) => c.role) : (s.input.columns ?? [])).filter((r) => (TIME_ROLES as readonly string[]).includes(r));
+  if (s.input.format === 'frames' && times.length) fail('input.channels', `"${times[0]}": frames carry their time in the frame header, not in a channel`);
+  if (times.length > 1) fail('input.columns', `more than one time column (${times.map((r) => `"${r}"`).join(', ')}): give one`);
+  if (s.pendulum.parts?.length && s.pendulum.inertia_kg_m2 === undefined) {
+    try {
+      inertiaFromParts(s.pendulum.parts);
+    } catch (e) {
+      if (e instanceof InertiaPartError) fail(e.field, e.message.slice(e.field.length + 2));
+      throw e;
+    }
+  }
   const roles = s.input.format === 'frames' ? s.input.channels?.map((c) => c.role) : s.input.columns;
   if (roles) {
     const need: Record<string, string[]> = {
@@ -156,12 +197,35 @@ function crossCheck(s: Station, source: string): Station {
     fail(s.fibre.width_m === undefined ? 'fibre.width_m' : 'fibre.thickness_m', 'a ribbon needs both width_m and thickness_m');
   }
   if (s.fibre.diameter_m !== undefined && s.fibre.width_m !== undefined) fail('fibre.width_m', 'give either diameter_m (round) or width_m/thickness_m (ribbon), not both');
+  // an uncertainty without the value it belongs to is a slip in the file, not something to ignore
+  for (const [sigma, value] of [['diameter_sigma_m', 'diameter_m'], ['length_sigma_m', 'length_m'], ['width_sigma_m', 'width_m'], ['thickness_sigma_m', 'thickness_m']] as const) {
+    if (s.fibre[sigma] !== undefined && s.fibre[value] === undefined) fail(`fibre.${sigma}`, `needs fibre.${value}`);
+  }
+  if (s.pendulum.inertia_sigma_kg_m2 !== undefined && s.pendulum.inertia_kg_m2 === undefined && !s.pendulum.parts?.length) {
+    fail('pendulum.inertia_sigma_kg_m2', 'needs pendulum.inertia_kg_m2 or pendulum.parts');
+  }
   return s;
 }
 
-/** Read and validate a station file; JSON syntax errors also name the file and position. */
-export function loadStation(path: string): Station {
-  return parseStation(readJsonFile(path, 'station file', stationError), path);
+/** What a usable station file may still deserve a word about (one line each, naming the field). */
+export function stationWarnings(s: Station, source = 'station'): string[] {
+  const w: string[] = [];
+  if (s.fibre.material !== undefined && !lookupMaterial(s.fibre.material)) {
+    // JSON quoting shows any control character in the name as an escape
+    w.push(`${source}: fibre.material: ${JSON.stringify(s.fibre.material)} is not in the materials table (${materialNames().join(', ')}): no twist limit and no handbook check for this fibre`);
+  }
+  return w;
+}
+
+/**
+ * Read and validate a station file; JSON syntax errors also name the file and
+ * position. Warnings (stationWarnings) go to `onWarning`, by default one line
+ * each on stderr.
+ */
+export function loadStation(path: string, onWarning: (message: string) => void = (m) => process.stderr.write(`fibrewatch: warning: ${m}\n`)): Station {
+  const s = parseStation(readJsonFile(path, 'station file', stationError), path);
+  for (const m of stationWarnings(s, path)) onWarning(m);
+  return s;
 }
 
 /** Station defaults for a bare recording with only a column list (`fit --columns`). */

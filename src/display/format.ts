@@ -1,4 +1,5 @@
 /** Human-readable output helpers (SI inside; units converted only here, for display). */
+import { safeText } from './safe-text.js';
 
 /**
  * Format a value with its standard uncertainty, both rounded to the uncertainty's
@@ -55,8 +56,9 @@ export function duration(s: number): string {
   return `${neg ? '-' : ''}${d ? `${d} d ` : ''}${hh}:${mm}:${ss}`;
 }
 
-/** Left-aligned text table with a header rule; numbers are pre-formatted by the caller. */
-export function table(header: string[], rows: string[][]): string {
+/** Left-aligned text table with a header rule; numbers are pre-formatted by the caller; every cell is made terminal-safe (safeText). */
+export function table(header: string[], rawRows: string[][]): string {
+  const rows = rawRows.map((r) => r.map((c) => safeText(c ?? '')));
   const w = header.map((h, i) => Math.max(h.length, ...rows.map((r) => (r[i] ?? '').length)));
   const line = (r: string[]) => r.map((c, i) => (c ?? '').padEnd(w[i])).join('  ').trimEnd();
   return [line(header), w.map((n) => '─'.repeat(n)).join('  '), ...rows.map(line)].join('\n') + '\n';

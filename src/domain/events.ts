@@ -4,9 +4,15 @@ export const EVENT_KINDS = [
   'saturation', 'amplitude-low', 'amplitude-limit',
   // our own additions
   'run-start', 'run-end', 'device-lost', 'clock-note',
+  // samples whose device time could not be trusted were masked (drivers/clock-guard.ts)
+  'clock-fault',
+  // the store ran out of space: the run was closed as interrupted (src/app/record.ts, import-file.ts)
+  'store-full',
   // faults of the program itself: a pipeline stage (or one window's analysis) threw and was restarted,
   // or a watcher threw and was restarted with its state reset; acquisition and storage went on
   'internal-error', 'watch-error',
+  // a stored sample chunk failed its checksum or did not decode (fibrewatch check --mark); its samples read as invalid
+  'corrupt-chunk',
 ] as const;
 export type EventKind = (typeof EVENT_KINDS)[number];
 

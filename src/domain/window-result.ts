@@ -18,6 +18,9 @@ export interface WindowResult {
   /** τ (amplitude 1/e time); null when the fitted decay rate is ≤ 0 (no decay resolved: τ would be ∞ or negative) */
   decay_time_s: number | null;
   decay_time_sigma_s: number | null;
+  /** γ = 1/τ, 1/s: finite for every ok window, slightly negative when no decay is resolved (kept so run averages are not biased) */
+  decay_rate_per_s: number | null;
+  decay_rate_sigma_per_s: number | null;
   q: number | null;
   q_sigma: number | null;
   amplitude_rad: number | null;
@@ -42,7 +45,7 @@ export interface WindowResult {
 /** Every field of a window result, in the order the store, `windows` and exports list them. */
 export const WINDOW_FIELDS = [
   'index', 't_start_s', 't_mid_s', 't_end_s', 'samples', 'status',
-  'period_s', 'period_sigma_s', 'decay_time_s', 'decay_time_sigma_s', 'q', 'q_sigma',
+  'period_s', 'period_sigma_s', 'decay_time_s', 'decay_time_sigma_s', 'decay_rate_per_s', 'decay_rate_sigma_per_s', 'q', 'q_sigma',
   'amplitude_rad', 'amplitude_sigma_rad', 'equilibrium_rad', 'equilibrium_sigma_rad',
   'drift_rad_per_s', 'drift_sigma_rad_per_s', 'phase_rad', 'residual_rms_rad', 'chi2_red',
   'kappa_Nm_per_rad', 'kappa_sigma_Nm_per_rad', 'shear_modulus_Pa', 'shear_modulus_sigma_Pa', 'temp_C',

@@ -103,6 +103,15 @@ export function partInertiaCm(p: InertiaPart, where = 'part'): number {
     return v;
   };
   const m = p.mass_kg;
+  // an annulus needs inner ≤ outer; an inner radius alone describes nothing
+  if (p.shape === 'disc' || p.shape === 'ring') {
+    if (p.inner_radius_m !== undefined && p.outer_radius_m === undefined) {
+      throw new InertiaPartError(`${where}.outer_radius_m: is required with inner_radius_m for shape "${p.shape}"`, `${where}.outer_radius_m`);
+    }
+    if (p.inner_radius_m !== undefined && p.outer_radius_m !== undefined && p.inner_radius_m > p.outer_radius_m) {
+      throw new InertiaPartError(`${where}.inner_radius_m: must be ≤ outer_radius_m (${p.inner_radius_m} m > ${p.outer_radius_m} m)`, `${where}.inner_radius_m`);
+    }
+  }
   switch (p.shape) {
     case 'point':
       return 0;
@@ -117,9 +126,7 @@ export function partInertiaCm(p: InertiaPart, where = 'part'): number {
       return cylinderTransverse(m, need(p.radius_m, 'radius_m'), need(p.length_m, 'length_m'));
     case 'ring': {
       if (p.outer_radius_m !== undefined) {
-        const ri = p.inner_radius_m ?? p.outer_radius_m;
-        if (ri > p.outer_radius_m) throw new InertiaPartError(`${where}.inner_radius_m: must be ≤ outer_radius_m`, `${where}.inner_radius_m`);
-        return annulus(m, ri, p.outer_radius_m);
+        return annulus(m, p.inner_radius_m ?? p.outer_radius_m, p.outer_radius_m);
       }
       return thinRing(m, need(p.radius_m, 'radius_m'));
     }

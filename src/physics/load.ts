@@ -7,6 +7,11 @@
  */
 import { G_STANDARD } from './constants.js';
 
+/** Weight F = m·g (N) of a suspended mass m (kg): the tension in the fibre; g defaults to g_n. */
+export function suspendedWeight(m: number, g = G_STANDARD): number {
+  return m * g;
+}
+
 /** Tensile stress σ = m·g/(π·d²/4) (Pa) in a round fibre of diameter d (m) carrying mass m (kg); g defaults to g_n. */
 export function tensileStress(m: number, d: number, g = G_STANDARD): number {
   return (m * g) / ((Math.PI * d * d) / 4);

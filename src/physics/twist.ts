@@ -1,7 +1,10 @@
 /**
- * Elastic twist limit of a round fibre (docs/physics.md, "Fibres"): surface shear
- * strain γ = θ·d/(2L), stress τ = G·γ, largest elastic twist
- * θ_max = 2·L·τ_allow/(G·d).
+ * Elastic twist limit of a round fibre (docs/physics.md, "How far a fibre may be
+ * twisted"): surface shear strain γ = θ·d/(2L), stress τ = G·γ. The fibre also carries
+ * its load in tension, σ = F/(π·d²/4), so the two are combined as a von Mises
+ * equivalent stress √(σ² + 3τ²) (common practice) against √3·τ_allow, the equivalent of
+ * the allowable stress in pure torsion: without a load the limit is
+ * θ_max = 2·L·τ_allow/(G·d), with one θ_max = 2·L·√(τ_allow² − σ²/3)/(G·d).
  *
  * Caution: these limits are guidance from handbook values, not a rating of
  * a particular fibre. A fibre that breaks drops its mass: use a catcher,
@@ -23,7 +26,12 @@ export function surfaceShearStress(G: number, theta: number, d: number, L: numbe
   return G * surfaceShearStrain(theta, d, L);
 }
 
-/** Largest elastic twist θ_max = 2·L·τ_allow/(G·d) (rad). */
+/** von Mises equivalent stress √(σ² + 3·τ²) (Pa) of a tensile stress σ and a shear stress τ (Pa). */
+export function vonMisesStress(sigma: number, tau: number): number {
+  return Math.sqrt(sigma * sigma + 3 * tau * tau);
+}
+
+/** Largest elastic twist θ_max = 2·L·τ_allow/(G·d) (rad) for an allowable surface shear stress τ_allow (Pa). */
 export function maxElasticTwist(L: number, allowableShear: number, G: number, d: number): number {
   return (2 * L * allowableShear) / (G * d);
 }
@@ -33,8 +41,12 @@ export interface TwistLimit {
   theta_max_rad: number;
   /** the same in full turns */
   turns: number;
-  /** allowable surface shear stress used, Pa */
+  /** allowable surface shear stress in pure torsion, Pa */
   allowable_shear_Pa: number;
+  /** tensile stress from the suspended load, Pa (0 without one) */
+  tensile_stress_Pa: number;
+  /** shear stress left for twisting once the load is carried, Pa: √(τ_allow² − σ²/3), 0 when the load alone reaches the limit */
+  twist_shear_Pa: number;
   /** where the allowable stress comes from */
   basis: string;
 }
@@ -46,6 +58,8 @@ export interface TwistLimitOptions {
   shearModulus_Pa?: number;
   /** tensile strength override, Pa (default: the material's at this diameter) */
   tensileStrength_Pa?: number;
+  /** tensile force on the fibre (the suspended weight), N; default 0 */
+  tension_N?: number;
 }
 
 /** Elastic twist limit of a round fibre {diameter_m, length_m} of the given material. */
@@ -66,11 +80,19 @@ export function twistLimit(fibre: { diameter_m: number; length_m: number }, mate
     fracBasis = 'assumed default fraction (no source)';
   }
   const allow = fraction * uts;
-  const theta = maxElasticTwist(fibre.length_m, allow, G, fibre.diameter_m);
+  const sigma = (opts.tension_N ?? 0) / ((Math.PI * fibre.diameter_m ** 2) / 4);
+  // von Mises: σ² + 3τ² ≤ 3·τ_allow², so the twist may use √(τ_allow² − σ²/3)
+  const left = Math.sqrt(Math.max(allow * allow - (sigma * sigma) / 3, 0));
+  const theta = maxElasticTwist(fibre.length_m, left, G, fibre.diameter_m);
+  const load = sigma > 0
+    ? `; combined with the load's tensile stress ${(sigma / 1e6).toPrecision(3)} MPa as von Mises √(σ² + 3τ²) ≤ √3·τ_allow${left === 0 ? ' — the load alone reaches it' : ''}`
+    : '';
   return {
     theta_max_rad: theta,
     turns: theta / (2 * Math.PI),
     allowable_shear_Pa: allow,
-    basis: `${(fraction * 100).toFixed(0)} % of ${utsBasis}; fraction: ${fracBasis}`,
+    tensile_stress_Pa: sigma,
+    twist_shear_Pa: left,
+    basis: `τ_allow = ${(fraction * 100).toFixed(0)} % of ${utsBasis}; fraction: ${fracBasis}${load}`,
   };
 }

@@ -3,21 +3,19 @@
  * results (period, equilibrium, amplitude), a stretch of raw angle, and the
  * events. No external assets: plots are inline SVG.
  */
-import type Database from 'better-sqlite3';
-import { listWindows } from '../../db/windows-store.js';
-import { listEvents } from '../../db/events-store.js';
-import { readSamples } from '../../db/sample-reader.js';
+import { readAllSamples, type ReadStore } from '../../db/read-store.js';
 import { buildSummary } from '../summaries/show-summary.js';
 import { withSigma, fmt, isoShort } from '../display/format.js';
 import { plotSvg } from './svg-plot.js';
+import { budgetText, correctionsText } from '../summaries/budget-text.js';
 import { escapeHtml as esc } from '../display/escape-html.js';
 
 
 /** Build the report's HTML text for a run. */
-export function renderReport(db: Database.Database, runId: number): string {
-  const s = buildSummary(db, runId);
-  const ws = listWindows(db, runId).filter((w) => w.status === 'ok');
-  const evs = listEvents(db, runId);
+export async function renderReport(store: ReadStore, runId: number): Promise<string> {
+  const s = await buildSummary(store, runId);
+  const ws = (await store.listWindows(runId)).filter((w) => w.status === 'ok');
+  const evs = await store.listEvents(runId);
   const h = (x: number) => x / 3600;
   const tx = ws.map((w) => h(w.t_mid_s));
   const alertMarks = evs.filter((e) => e.state === 'raised').map((e) => ({ x: h(e.t_s), label: `${e.kind} raised: ${e.message}` }));
@@ -36,7 +34,7 @@ export function renderReport(db: Database.Database, runId: number): string {
   const temps = ws.filter((w) => w.temp_C !== null);
   if (temps.length) plots.push(plotSvg([{ x: temps.map((w) => h(w.t_mid_s)), y: temps.map((w) => w.temp_C!), label: 'temperature' }], { title: 'Temperature', xLabel: 'time since start (h)', yLabel: '°C' }));
   // the first ten minutes of raw angle, to see the signal itself
-  const raw = readSamples(db, runId, 'angle', { from_s: 0, to_s: 600 });
+  const raw = await readAllSamples(store, runId, 'angle', { from_s: 0, to_s: 600 });
   plots.push(plotSvg([{ x: raw.t, y: Array.from(raw.v, (v) => v * 1e3), label: 'angle' }], { title: 'Angle, first 10 minutes', xLabel: 'time since start (s)', yLabel: 'mrad' }));
 
   const row = (k: string, v: string) => `<tr><th>${esc(k)}</th><td>${esc(v)}</td></tr>`;
@@ -46,11 +44,19 @@ export function renderReport(db: Database.Database, runId: number): string {
     row('status', s.status),
     row('samples / windows (ok) / gaps', `${s.samples} / ${s.windows} (${s.windows_ok}) / ${s.gaps}`),
     row('period', withSigma(s.period_s, s.period_sigma_s, 's')),
-    row('Q', withSigma(s.q, s.q_sigma)),
+    row('Q (from the amplitude decay over the run)', withSigma(s.q, s.q_sigma)),
     row('equilibrium rate', withSigma(s.equilibrium_rate_rad_per_s === null ? null : s.equilibrium_rate_rad_per_s * 3600, s.equilibrium_rate_sigma_rad_per_s === null ? null : s.equilibrium_rate_sigma_rad_per_s * 3600, 'rad/h')),
   ];
-  if (s.kappa_Nm_per_rad !== undefined) summary.push(row('torsion constant κ', withSigma(s.kappa_Nm_per_rad, s.kappa_sigma_Nm_per_rad, 'N·m/rad')));
-  if (s.shear_modulus_Pa != null) summary.push(row('shear modulus G', withSigma(s.shear_modulus_Pa / 1e9, (s.shear_modulus_sigma_Pa ?? 0) / 1e9, 'GPa')));
+  // total σ (statistical and the hand-measured inputs in quadrature), then the statistical part and what dominates
+  const stat = (v: number | null | undefined, unit: string, k = 1) => (v == null ? '' : ` · statistical part ±${fmt(v / k, 2)} ${unit}`);
+  const parts = (b: string) => (b ? ` — ${b}` : '');
+  if (s.kappa_Nm_per_rad !== undefined) {
+    summary.push(row('torsion constant κ', withSigma(s.kappa_Nm_per_rad, s.kappa_sigma_Nm_per_rad, 'N·m/rad') + parts(budgetText(s.kappa_sigma_budget) + stat(s.kappa_sigma_stat_Nm_per_rad, 'N·m/rad'))));
+  }
+  if (s.shear_modulus_Pa != null) {
+    summary.push(row('shear modulus G', withSigma(s.shear_modulus_Pa / 1e9, (s.shear_modulus_sigma_Pa ?? 0) / 1e9, 'GPa') + parts(budgetText(s.shear_modulus_sigma_budget) + stat(s.shear_modulus_sigma_stat_Pa, 'GPa', 1e9))));
+  }
+  summary.push(row('corrections', correctionsText(s)));
   const evRows = evs.map((e) => `<tr class="sev-${esc(e.severity)}"><td>${esc(e.t.replace(/\.\d{3}Z$/, 'Z'))}</td><td>${esc(e.kind)}</td><td>${esc(e.state ?? '')}</td><td>${esc(e.severity)}</td><td>${esc(fmt(e.value))}</td><td>${esc(e.message)}</td></tr>`).join('');
   return `<!doctype html>
 <html lang="en"><head><meta charset="utf-8"><title>fibrewatch · run ${s.run}</title>

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { fitDampedSine, noiseFromDifferences, DAMPED_SINE_PARAMS } from '../../src/analysis/damped-sine.js';
+import { fitDampedSine, DAMPED_SINE_PARAMS } from '../../src/analysis/damped-sine.js';
+import { noiseFromDifferences } from '../../src/analysis/difference-noise.js';
 import { FIT_STATUS } from '../../src/analysis/fit-status.js';
 import { fitLM } from '../../src/analysis/lm.js';
 import { Rng } from '../../src/analysis/rng.js';

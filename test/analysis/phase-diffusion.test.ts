@@ -5,7 +5,8 @@
  * non-overlapping windows.
  */
 import { describe, expect, it } from 'vitest';
-import { DiffusionEstimator, extraVariance, thermalDiffusion } from '../../src/analysis/phase-diffusion.js';
+import { Matrix, solve } from 'ml-matrix';
+import { DiffusionEstimator, extraVariance, thermalDiffusion, thermalResidualVariance } from '../../src/analysis/phase-diffusion.js';
 import { normals } from '../helpers/blocks.js';
 
 describe('phase diffusion', () => {
@@ -76,5 +77,24 @@ describe('phase diffusion', () => {
     }
     const ex = extraVariance(1, 1, { period_s: 60, amplitude_rad: 1e-3, span_s: 240 }, 'viscous');
     expect(est.estimate()!.period * ex.period_s2).toBeLessThan(0.35 * 1e-8);
+  });
+});
+
+describe('thermal residual variance', () => {
+  it('equals the residual variance of a least-squares fit under the thermal covariance, computed directly', () => {
+    // direct: OLS projection of the viscous oscillator's autocovariance R(τ) = θ²·e^{−γ|τ|}(cos ω_d τ + γ/ω_d sin ω_d|τ|)
+    // (the textbook stationary response to white torque noise), trace((1 − H) R (1 − H))/(n − 6)
+    const T = 60, Q = 2000, w0 = (2 * Math.PI) / T, g = w0 / (2 * Q), wd = Math.sqrt(w0 * w0 - g * g);
+    const kappa = 1e-5 * w0 * w0, kT = 1.380649e-23 * 295, th2 = kT / kappa;
+    const W = 4 * T, n = 160;
+    const t = Array.from({ length: n }, (_, i) => -W / 2 + (i * W) / (n - 1));
+    const X = new Matrix(t.map((u) => [1, u, Math.cos(wd * u), Math.sin(wd * u), u * Math.cos(wd * u), u * Math.sin(wd * u)]));
+    const R = new Matrix(t.map((a) => t.map((b) => { const d = Math.abs(a - b); return th2 * Math.exp(-g * d) * (Math.cos(wd * d) + (g / wd) * Math.sin(wd * d)); })));
+    const H = X.mmul(solve(X.transpose().mmul(X), X.transpose()));
+    const M = Matrix.eye(n).sub(H);
+    const direct = M.mmul(R).mmul(M).trace() / (n - 6);
+    const D = thermalDiffusion(295, kappa, g);
+    expect(thermalResidualVariance(D, T, W, 'viscous') / direct).toBeGreaterThan(0.95);
+    expect(thermalResidualVariance(D, T, W, 'viscous') / direct).toBeLessThan(1.05);
   });
 });

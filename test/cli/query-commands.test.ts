@@ -9,7 +9,7 @@ import { mkdtempSync, readFileSync, rmSync, existsSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { runCli, runCliAsync, type CliResult } from '../helpers/cli.js';
-import { buildStore, W25, type FixtureRun } from './store-fixture.js';
+import { buildStore, INERTIA_SIGMA_REL, W25_SIGMAS, W25, type FixtureRun } from './store-fixture.js';
 import { WINDOW_COLUMNS } from '../../src/cli/commands/windows.js';
 
 let dir: string;
@@ -201,6 +201,28 @@ describe('show', () => {
     expect(s.q).toBeGreaterThan(790);
     expect(s.q).toBeLessThan(810);
     expect(s.gaps).toBe(0);
+  });
+
+  it('adds the hand-measured uncertainties once: total and statistical σ, the budget, the corrections applied', () => {
+    // run 3's station: σ_I/I = 0.4 %, σ_d/d = 1 %, σ_L = 1 mm (store-fixture.ts); the stations are stored per name,
+    // so run 1 (same station) is summarised with them too
+    const s = json<Record<string, any>>('show', '3');
+    expect(s.kappa_sigma_stat_Nm_per_rad).toBeGreaterThan(0);
+    // direct propagation: statistical σ of the mean and κ·σ_I/I, in quadrature
+    expect(s.kappa_sigma_Nm_per_rad / Math.hypot(s.kappa_sigma_stat_Nm_per_rad, INERTIA_SIGMA_REL * s.kappa_Nm_per_rad)).toBeCloseTo(1, 9);
+    expect(s.kappa_sigma_budget.inertia).toBeCloseTo(INERTIA_SIGMA_REL, 12);
+    // G: 4·σ_d/d, σ_L/L and σ_I/I (no load: exactly the textbook exponents)
+    const rel = Math.hypot(INERTIA_SIGMA_REL, (4 * W25_SIGMAS.diameter_sigma_m) / W25.diameter_m, W25_SIGMAS.length_sigma_m / W25.length_m);
+    expect(s.shear_modulus_sigma_Pa / Math.hypot(s.shear_modulus_sigma_stat_Pa, rel * s.shear_modulus_Pa)).toBeCloseTo(1, 6);
+    expect(s.shear_modulus_sigma_budget.diameter).toBeCloseTo(0.04, 7);
+    expect(s).toMatchObject({ damping: 'internal', tension_N: null, tension_share_ppm: null, temperature_K: 295, temperature_source: 'assumed' });
+    expect(s.decay_rate_per_s).toBeGreaterThan(10 * s.decay_rate_sigma_per_s);
+    // run 1 records temp_C: the thermal term uses its mean temperature
+    expect(json<Record<string, any>>('show', '1').temperature_source).toBe('recorded');
+    const r = cli('show', '3');
+    expect(r.stdout).toMatch(/κ\s+.*N·m\/rad\s+σ: inertia 0\.4 % dominates \(statistical [\d.e-]+ %\)/);
+    expect(r.stdout).toMatch(/G\s+.*GPa\s+σ: diameter 4 % dominates \(statistical [\d.e-]+ %, inertia 0\.4 %, length 0\.1[23] %\)/);
+    expect(r.stdout).toMatch(/corrections\s+T₀ for internal damping .*no tension term .*thermal wander in σ_Q at 295 K \(assumed\)/);
   });
 
   it('counts the gap and the alerts of run 1', () => {
@@ -439,7 +461,9 @@ describe('fibres and fibre', () => {
     expect(h.status).toBe(0);
     expect(h.stdout).toMatch(/κ \(N·m\/rad\)/);
     expect(h.stdout).toMatch(/G \(GPa\)/);
-    expect(h.stdout).toMatch(/2026-03-10T08:00:00Z .* yes\s*$/m);
+    // run 3's σ's: κ mostly from the inertia (0.4 %), G from the diameter (4 × 1 %)
+    expect(h.stdout).toMatch(/σ mostly from/);
+    expect(h.stdout).toMatch(/2026-03-10T08:00:00Z .* yes\s+κ: inertia, G: diameter\s*$/m);
   });
 });
 
@@ -459,6 +483,15 @@ describe('report', () => {
     expect(html).not.toMatch(/@import/i);
     expect(html).not.toMatch(/<script[^>]+src=/i);
     expect(html.replace(/xmlns(:\w+)?="http:\/\/www\.w3\.org\/[^"]*"/g, '')).not.toMatch(/https?:\/\//);
+  });
+
+  it('gives κ and G with their total σ, the statistical part and the dominant source, and the corrections', () => {
+    const out = join(dir, 'r3.html');
+    expect(cli('report', '3', '--out', out).status).toBe(0);
+    const html = readFileSync(out, 'utf8');
+    expect(html).toMatch(/torsion constant κ<\/th><td>\(7\.\d+ ± 0\.0\d+\)e-9 N·m\/rad — σ: inertia 0\.4 % dominates .* · statistical part ±[\d.e-]+ N·m\/rad</);
+    expect(html).toMatch(/shear modulus G<\/th><td>[\d.]+ ± [\d.]+ GPa — σ: diameter 4 % dominates/);
+    expect(html).toMatch(/corrections<\/th><td>T₀ for internal damping/);
   });
 
   it('fails with exit 1 and no stack trace when the file cannot be written', () => {

@@ -34,6 +34,9 @@ export interface FixtureRun {
 
 /** Fibre geometry of the tungsten fibre in runs 1 and 3 (invented). */
 export const W25 = { name: 'W25-a', material: 'tungsten', diameter_m: 2.5e-5, length_m: 0.8 };
+/** The uncertainties run 3's station gives for that fibre (1 % of d, 1 mm of L) and for the inertia (0.4 %). */
+export const W25_SIGMAS = { diameter_sigma_m: 2.5e-7, length_sigma_m: 1e-3 };
+export const INERTIA_SIGMA_REL = 0.004;
 
 interface Spec {
   station: Record<string, unknown>;
@@ -83,9 +86,10 @@ function specs(): Spec[] {
       started_at: '2026-03-05T23:50:00.000Z', seed: 12, file: 'run-b.bin',
     },
     {
-      // the tungsten fibre again a few days later, κ 1 % higher: κ moved
+      // the tungsten fibre again a few days later, κ 1 % higher: κ moved; the station now states the
+      // hand-measured uncertainties (systematic: they enter the run's κ and G once)
       station: {
-        station: 'bench-a', fibre: W25, pendulum: { inertia_kg_m2: I },
+        station: 'bench-a', fibre: { ...W25, ...W25_SIGMAS }, pendulum: { inertia_kg_m2: I, inertia_sigma_kg_m2: INERTIA_SIGMA_REL * I },
         input: { format: 'lines', columns: ['t_s', 'angle_rad'] }, alerts: { stderr: false },
       },
       scenario: { ...base('cli-c', kA * 1.01, I, 900), output: { format: 'lines', columns: ['t_s', 'angle_rad'] } },

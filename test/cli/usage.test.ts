@@ -252,7 +252,7 @@ describe('exit statuses of bad usage', () => {
   it('--help and --version exit 0', () => {
     const h = runCli(['--help']);
     expect(h.status).toBe(0);
-    for (const c of ['demo', 'fit', 'record', 'import', 'simulate', 'runs', 'show', 'windows', 'events', 'fibres', 'fibre', 'export', 'report', 'ports']) {
+    for (const c of ['demo', 'fit', 'record', 'import', 'simulate', 'runs', 'show', 'windows', 'events', 'fibres', 'fibre', 'export', 'report', 'check', 'ports']) {
       expect(h.stdout).toMatch(new RegExp(`^\\s+${c}\\b`, 'm'));
     }
     expect(runCli(['runs', '--help']).status).toBe(0);

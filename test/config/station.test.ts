@@ -49,7 +49,8 @@ describe('defaults', () => {
   it('fills analysis, alerts, input (with reconnect), sensor and pendulum for a minimal file', () => {
     const s = parseStation(minimal());
     expect(s.sensor).toEqual({ kind: 'angle' });
-    expect(s.pendulum).toEqual({});
+    expect(s.pendulum).toEqual({ damping: 'internal' });
+    expect(s.environment).toEqual({});
     expect(s.input).toEqual({ baud: 115200, format: 'lines', separator: ',', reconnect: { min_delay_s: 0.25, max_delay_s: 10 } });
     expect(s.analysis).toEqual({ window_periods: 4, step_periods: 1, samples_per_period: 40, hampel_half_width: 5, hampel_threshold: 5 });
     expect(s.alerts).toEqual({
@@ -83,6 +84,24 @@ describe('defaults', () => {
   it('fills a pendulum part\'s offset and count', () => {
     const s = parseStation({ ...minimal(), pendulum: { parts: [{ shape: 'sphere', mass_kg: 0.01, radius_m: 0.004 }] } });
     expect(s.pendulum.parts).toEqual([{ shape: 'sphere', mass_kg: 0.01, radius_m: 0.004, offset_m: 0, count: 1 }]);
+  });
+});
+
+describe('uncertainties, damping and temperature (docs/commands.md, "Keys")', () => {
+  it('accepts the hand-measured σ\'s beside their values, the damping model and the temperature', () => {
+    const s = parseStation(withPatch(CONTRACT_EXAMPLE, {
+      fibre: { diameter_sigma_m: 2.5e-7, length_sigma_m: 1e-3 },
+      pendulum: { inertia_sigma_kg_m2: 2e-7, damping: 'viscous', mass_kg: 0.05 },
+      environment: { temperature_K: 293.2 },
+    }));
+    expect(s.fibre).toMatchObject({ diameter_sigma_m: 2.5e-7, length_sigma_m: 1e-3 });
+    expect(s.pendulum).toMatchObject({ inertia_sigma_kg_m2: 2e-7, damping: 'viscous', mass_kg: 0.05 });
+    expect(s.environment.temperature_K).toBe(293.2);
+    const r = parseStation({ ...minimal(), fibre: { name: 'r', width_m: 1e-3, width_sigma_m: 1e-5, thickness_m: 2e-5, thickness_sigma_m: 5e-7, length_m: 0.5 } });
+    expect(r.fibre).toMatchObject({ width_sigma_m: 1e-5, thickness_sigma_m: 5e-7 });
+  });
+  it('an absent temperature stays absent, so outputs can say it was assumed', () => {
+    expect(parseStation(CONTRACT_EXAMPLE).environment.temperature_K).toBeUndefined();
   });
 });
 
@@ -190,6 +209,13 @@ const REFUSED: [string, Record<string, unknown>, string, RegExp][] = [
   ['fibre a string', { fibre: 'W25' }, 'fibre', /./],
   ['part without mass', { pendulum: { parts: [{ shape: 'disc', radius_m: 0.01 }] } }, 'pendulum.parts[0].mass_kg', /required/],
   ['part of an unknown shape', { pendulum: { parts: [{ shape: 'cone', mass_kg: 0.01 }] } }, 'pendulum.parts[0].shape', /sphere/],
+  ['negative diameter σ', { fibre: { diameter_sigma_m: -1e-7 } }, 'fibre.diameter_sigma_m', /≥ 0/],
+  ['length σ without a length', { fibre: { length_m: undefined, length_sigma_m: 1e-3 } }, 'fibre.length_sigma_m', /needs fibre\.length_m/],
+  ['width σ on a round fibre', { fibre: { width_sigma_m: 1e-6 } }, 'fibre.width_sigma_m', /needs fibre\.width_m/],
+  ['inertia σ without an inertia', { pendulum: { inertia_kg_m2: undefined, inertia_sigma_kg_m2: 1e-7 } }, 'pendulum.inertia_sigma_kg_m2', /needs pendulum\.inertia_kg_m2/],
+  ['unknown damping model', { pendulum: { damping: 'structural' } }, 'pendulum.damping', /"internal" or "viscous"/],
+  ['temperature zero', { environment: { temperature_K: 0 } }, 'environment.temperature_K', /> 0/],
+  ['unknown key in environment', { environment: { temperature_C: 22 } }, 'environment.temperature_C', /unknown field/],
 ];
 
 describe('refused station files name the field', () => {

@@ -9,6 +9,7 @@ import { createRun, endRun } from '../../db/runs.js';
 import { insertWindows } from '../../db/windows-store.js';
 import { listFibres } from '../../db/fibres.js';
 import { fibreHistory } from '../../src/summaries/fibre-history.js';
+import { sqliteReadStore } from '../../db/read-store.js';
 import type { WindowResult } from '../../src/domain/window-result.js';
 
 const dirs: string[] = [];
@@ -23,13 +24,16 @@ afterEach(() => {
 
 const T = 9.3; // period, s; windows 4 periods long stepping 1 period → overlap factor 4
 const D0 = Date.UTC(2026, 4, 1);
+// the swing decays at γ, so that Q = ω₀/(2γ) = 270 with ω₀² = ω_d² − γ² (internal damping, the default)
+const wd = (2 * Math.PI) / T;
+const GAMMA = wd / Math.sqrt(1 + 4 * 270 * 270);
 
 function win(index: number, over: Partial<WindowResult>): WindowResult {
   const t0 = index * T;
   return {
     index, t_start_s: t0, t_mid_s: t0 + 2 * T, t_end_s: t0 + 4 * T, samples: 744, status: 'ok',
-    period_s: T, period_sigma_s: 1e-5, decay_time_s: 800, decay_time_sigma_s: 30, q: 270, q_sigma: 10,
-    amplitude_rad: 2e-3, amplitude_sigma_rad: 1e-7, equilibrium_rad: 0.31, equilibrium_sigma_rad: 1e-8,
+    period_s: T, period_sigma_s: 1e-5, decay_time_s: 800, decay_time_sigma_s: 30, decay_rate_per_s: 1 / 800, decay_rate_sigma_per_s: 30 / 800 ** 2, q: 270, q_sigma: 10,
+    amplitude_rad: 2e-3 * Math.exp(-GAMMA * (t0 + 2 * T)), amplitude_sigma_rad: 1e-7, equilibrium_rad: 0.31, equilibrium_sigma_rad: 1e-8,
     drift_rad_per_s: 0, drift_sigma_rad_per_s: 1e-10, phase_rad: 0, residual_rms_rad: 1e-7, chi2_red: 1,
     kappa_Nm_per_rad: 1e-5, kappa_sigma_Nm_per_rad: 1e-9, shear_modulus_Pa: 1.6e11, shear_modulus_sigma_Pa: 1e8, temp_C: 21,
     ...over,
@@ -60,7 +64,7 @@ describe('fibres', () => {
     db.close();
   });
 
-  it('summarises each run from its ok windows and says whether κ moved', () => {
+  it('summarises each run from its ok windows and says whether κ moved', async () => {
     const db = openStore(tmpFile());
     const n = 20;
     // run 1: κ alternating ±0.3σ (scatter below the stated σ), periods with unequal σ, a creeping equilibrium
@@ -82,7 +86,7 @@ describe('fibres', () => {
     const r4 = addRun(db, 'F1', D0 + 3 * 86_400_000, k4.map((k, i) => win(i, { kappa_Nm_per_rad: k })));
     addRun(db, 'OTHER', D0, [win(0, { kappa_Nm_per_rad: 1 })]);
 
-    const h = fibreHistory(db, 'F1');
+    const h = await fibreHistory(sqliteReadStore(db, 'test'), 'F1');
     expect(h.map((r) => r.run)).toEqual([r1, r2, r3, r4]);
     const [a, b, c, d] = h;
     expect(a).toMatchObject({ station: 'bench-a', started_at: '2026-05-01T00:00:00.000Z', status: 'complete', windows: n + 1, windows_ok: n });
@@ -94,7 +98,8 @@ describe('fibres', () => {
     // period: inverse-variance weighted mean (checked against simple-statistics)
     const p = w1.slice(0, n);
     expect(a.period_s!).toBeCloseTo(weightedMean(p.map((w) => w.period_s!), p.map((w) => 1 / w.period_sigma_s! ** 2)), 12);
-    expect(a.q!).toBeCloseTo(mean(p.map((w) => w.q!)), 9);
+    // Q from the amplitudes' decay over the run (docs/analysis.md, "The run's Q"), not from the windows' own Q
+    expect(a.q! / 270).toBeCloseTo(1, 6);
     // creep: slope of equilibrium against t_mid, equal σ → least squares (checked against simple-statistics)
     const lr = linearRegression(p.map((w) => [w.t_mid_s, w.equilibrium_rad!]));
     expect(a.equilibrium_rate_rad_per_s!).toBeCloseTo(lr.m, 15);
@@ -111,7 +116,7 @@ describe('fibres', () => {
     expect(d.kappa_moved).toBe(true);
     // the rule: |κ_i − κ_{i−1}| > 2·sqrt(σ_i² + σ_{i−1}²)
     expect(Math.abs(d.kappa_Nm_per_rad! - b.kappa_Nm_per_rad!)).toBeGreaterThan(2 * Math.hypot(d.kappa_sigma_Nm_per_rad!, b.kappa_sigma_Nm_per_rad!));
-    expect(fibreHistory(db, 'no-such-fibre')).toEqual([]);
+    expect(await fibreHistory(sqliteReadStore(db, 'test'), 'no-such-fibre')).toEqual([]);
     db.close();
   });
 });

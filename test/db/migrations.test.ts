@@ -73,6 +73,8 @@ describe('migrations', () => {
     const db = openStore(path);
     db.pragma(`user_version = ${SCHEMA_VERSION + 1}`);
     db.close();
-    expect(() => openStore(path)).toThrow(new RegExp(`version ${SCHEMA_VERSION + 1} is newer.*\\(${SCHEMA_VERSION}\\)`));
+    expect(() => openStore(path)).toThrow(new RegExp(`schema version ${SCHEMA_VERSION + 1}, newer than this fibrewatch's \\(${SCHEMA_VERSION}\\): upgrade fibrewatch`));
+    // reading it says the same: the fix is a newer program, not a read-write open
+    expect(() => openStore(path, { readonly: true })).toThrow(/upgrade fibrewatch$/);
   });
 });

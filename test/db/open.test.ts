@@ -4,7 +4,7 @@ import { existsSync, mkdtempSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { checkpoint, openStore } from '../../db/open.js';
-import { migrate } from '../../db/migrations.js';
+import { migrate, schemaVersion, SCHEMA_VERSION } from '../../db/migrations.js';
 import { createRun } from '../../db/runs.js';
 import { SampleWriter } from '../../db/sample-writer.js';
 
@@ -50,13 +50,18 @@ describe('openStore', () => {
     db.close();
   });
 
-  it('read-only refuses a missing file and an old schema', () => {
-    expect(() => openStore(tmpFile(), { readonly: true })).toThrow();
+  it('read-only refuses a missing file; upgrades an old schema in place when the file is writable, and says so', () => {
+    expect(() => openStore(tmpFile(), { readonly: true })).toThrow(/no store here/);
     const path = tmpFile();
     const old = new Database(path);
     migrate(old, 1);
     old.close();
-    expect(() => openStore(path, { readonly: true })).toThrow(/schema version 1.*read-write/);
+    const notes: string[] = [];
+    const ro = openStore(path, { readonly: true, onNote: (m) => notes.push(m) });
+    expect(schemaVersion(ro)).toBe(SCHEMA_VERSION);
+    expect(notes).toEqual([`${path}: upgraded the store from schema version 1 to ${SCHEMA_VERSION}`]);
+    expect(() => ro.prepare("INSERT INTO stations (name, updated_at) VALUES ('x', 0)").run()).toThrow(/readonly/);
+    ro.close();
   });
 
   it('checkpoint(TRUNCATE) empties the WAL', () => {

@@ -20,7 +20,7 @@ afterEach(() => {
 function win(index: number, over: Partial<WindowResult> = {}): WindowResult {
   return {
     index, t_start_s: index * 9.3, t_mid_s: index * 9.3 + 18.6, t_end_s: index * 9.3 + 37.2, samples: 744, status: 'ok',
-    period_s: 9.3001 + index * 1e-6, period_sigma_s: 2e-5, decay_time_s: 812, decay_time_sigma_s: 40, q: 274.3, q_sigma: 13,
+    period_s: 9.3001 + index * 1e-6, period_sigma_s: 2e-5, decay_time_s: 812, decay_time_sigma_s: 40, decay_rate_per_s: 1 / 812, decay_rate_sigma_per_s: 40 / 812 ** 2, q: 274.3, q_sigma: 13,
     amplitude_rad: 1.9e-3, amplitude_sigma_rad: 2e-7, equilibrium_rad: 0.3101, equilibrium_sigma_rad: 3e-8,
     drift_rad_per_s: 1.2e-9, drift_sigma_rad_per_s: 4e-10, phase_rad: -1.1, residual_rms_rad: 1.1e-7, chi2_red: 1.04,
     kappa_Nm_per_rad: 1.6433e-5, kappa_sigma_Nm_per_rad: 2e-9, shear_modulus_Pa: 1.61e11, shear_modulus_sigma_Pa: 2e8, temp_C: 21.4,

@@ -1,6 +1,6 @@
 // The supervisor on the real serialport stack over real socat pseudo-terminals:
 // killing socat is the unplug, restarting it at the same paths the replug.
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
@@ -156,7 +156,8 @@ describe('SerialSupervisor on a socat pseudo-terminal', () => {
     const outage_s = (tBack - tKill) / 1000;
     const up = r.ups[1];
     expect(up.first).toBe(false);
-    expect(up.attempts).toBeGreaterThanOrEqual(2);
+    // no open is tried while the path is gone: one attempt, when it is back
+    expect(up.attempts).toBe(1);
     // (detection can lag the unplug by up to probe_s when serialport misses the hang-up, never lead it)
     expect(up.downFor_s).toBeLessThan(outage_s + 0.5);
 
@@ -165,7 +166,7 @@ describe('SerialSupervisor on a socat pseudo-terminal', () => {
     const rec = r.incidents[1];
     expect(rec.severity).toBe('warning');
     expect(rec.message).toContain(join(dir, 'dev'));
-    expect(rec.message).toContain(`${up.attempts} attempts`);
+    expect(rec.message).toContain('(1 attempt)');
     const gap = r.incidents[2];
     const dur = gap.data!.duration_s as number;
     console.log(`outage ${outage_s.toFixed(3)} s, gap ${dur.toFixed(3)} s, reconnect after ${up.downFor_s.toFixed(3)} s in ${up.attempts} attempts`);
@@ -184,6 +185,43 @@ describe('SerialSupervisor on a socat pseudo-terminal', () => {
     const lastBefore = before.slice(0, before.lastIndexOf('\n')).split('\n').length - 1;
     const missing = run.first - lastBefore - 1;
     expect(Math.abs(missing / RATE - dur)).toBeLessThan(0.5);
+  });
+
+  it('reopens within 0.2 s of the device path coming back, however long the backoff', async () => {
+    let p = await pair();
+    // a backoff this long would leave the port closed for seconds after the replug
+    const sup = supervisor({ minDelay_s: 5, maxDelay_s: 10 });
+    const r = record(sup);
+    await sup.start();
+    const latencies: number[] = [];
+    for (let k = 0; k < 3; k++) {
+      await p.stop();
+      await waitFor(() => r.downs.length === k + 1, `down ${k + 1}`);
+      await new Promise((res) => setTimeout(res, 700 + 300 * k));
+      p = await pair(); // resolves once the links exist and socat is transferring
+      const back = clock();
+      await waitFor(() => r.ups.length === k + 2, `up ${k + 2}`, 5000, 5);
+      latencies.push(r.ups[k + 1].at_ms - back);
+    }
+    console.log(`reopen after the path returned: ${latencies.map((l) => l.toFixed(0)).join(', ')} ms`);
+    for (const l of latencies) expect(l).toBeLessThan(200);
+    const w = writerProcess(p.feedPath, { count: 200 });
+    cleanups.push(() => w.stop());
+    expect((await w.done).code).toBe(0);
+    await waitFor(() => r.text().endsWith(writerLine(199)), 'lines on the last connection');
+  });
+
+  it('keeps the backoff for opens that fail on a path that exists', async () => {
+    const path = join(dir, 'dev');
+    writeFileSync(path, ''); // a plain file: present, but no tty to open
+    const sup = supervisor({ waitForDevice: true, minDelay_s: 0.3, maxDelay_s: 0.3, giveUp_s: 1.3 });
+    const r = record(sup);
+    await sup.start();
+    await waitFor(() => r.giveups.length === 1, 'giveup', 10_000);
+    const attempts = Number(/\((\d+) attempts/.exec(r.giveups[0].message)?.[1]);
+    // one at once, then one every 0.3 s, and a last one at the deadline: about 6, not one per 50 ms poll (26)
+    expect(attempts).toBeGreaterThanOrEqual(3);
+    expect(attempts).toBeLessThanOrEqual(8);
   });
 
   it('the no-data watchdog reopens a silent port and reports one outage', async () => {

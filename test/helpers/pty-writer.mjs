@@ -10,12 +10,14 @@
 //   reopen      when the pty goes away, wait for the path to come back and carry on; lines due
 //               meanwhile are skipped, as an instrument's output is lost while unplugged (default false)
 //   bytes_b64   write these raw bytes instead of lines
+//   file        write the lines of this file (one sample each, e.g. the simulator's output) instead of
+//               the test stream; count defaults to the file's lines
 //   waitPath_s  how long to wait for FEED_PATH to appear, seconds (default 10)
 // stdin: "go" starts a waitGo writer; "stop" ends the writing after the current batch.
-// stdout: "ready" once open, then one JSON line {"written":N,"reopens":K,"error"?:CODE} at the end;
-//   lines 0…written−1 (offset by start) were written or, with reopen, skipped while away.
+// stdout: "ready" once open, then one JSON line {"written":N,"reopens":K,"skipped":S,"error"?:CODE} at the end;
+//   lines 0…written−1 (offset by start) were written or, with reopen, skipped while away (S of them).
 // exit 0 when done, 3 when the pty went away (EIO/ENXIO), 2 on bad usage.
-import { openSync, closeSync, writeSync, existsSync, constants } from 'node:fs';
+import { openSync, closeSync, writeSync, existsSync, readFileSync, constants } from 'node:fs';
 import { createInterface } from 'node:readline';
 
 /** Line i of the test stream; test/helpers/pty.ts `writerLine` must match. */
@@ -33,7 +35,9 @@ async function main() {
   }
   const spec = JSON.parse(specText ?? '{}');
   const start = spec.start ?? 0;
-  const count = spec.count ?? Infinity;
+  const fileLines = spec.file ? readFileSync(spec.file, 'latin1').split('\n').filter((l) => l.length > 0 && !l.startsWith('#')).map((l) => l + '\n') : undefined;
+  const line = fileLines ? (i) => fileLines[i] : writerLine;
+  const count = spec.count ?? (fileLines ? fileLines.length - start : Infinity);
   const rate = spec.rate_per_s ?? 0;
   const deadline = Date.now() + (spec.waitPath_s ?? 10) * 1000;
   while (!existsSync(feed)) {
@@ -57,8 +61,9 @@ async function main() {
   if (!go) await new Promise((resolve) => (wakeGo = resolve));
   let written = 0;
   let reopens = 0;
+  let skipped = 0;
   const finish = (code, error) => {
-    process.stdout.write(JSON.stringify(error ? { written, reopens, error } : { written, reopens }) + '\n', () => process.exit(code));
+    process.stdout.write(JSON.stringify(error ? { written, reopens, skipped, error } : { written, reopens, skipped }) + '\n', () => process.exit(code));
   };
   const put = (buf) => {
     let off = 0;
@@ -82,7 +87,7 @@ async function main() {
     const due = rate > 0 ? Math.min(count, Math.floor(((performance.now() - t0) / 1000) * rate) + 1) : Math.min(count, written + 1000);
     if (due > written) {
       let s = '';
-      for (let i = written; i < due; i++) s += writerLine(start + i);
+      for (let i = written; i < due; i++) s += line(start + i);
       try {
         put(Buffer.from(s, 'latin1'));
         written = due;
@@ -99,7 +104,9 @@ async function main() {
         }
         reopens++;
         // skip what fell due while away
-        written = Math.max(due, rate > 0 ? Math.min(count, Math.floor(((performance.now() - t0) / 1000) * rate)) : 0);
+        const resume = Math.max(due, rate > 0 ? Math.min(count, Math.floor(((performance.now() - t0) / 1000) * rate)) : 0);
+        skipped += resume - written;
+        written = resume;
       }
     }
     await (rate > 0 ? sleep(5) : new Promise((r) => setImmediate(r)));

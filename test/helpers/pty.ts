@@ -27,6 +27,8 @@ export interface WriterSpec {
   waitGo?: boolean;
   /** raw bytes to write instead of lines */
   bytes?: Buffer;
+  /** write the data lines of this file (comments skipped) instead of the test stream; count defaults to all of them */
+  file?: string;
   /** how long to wait for the feed path to appear, seconds; default 10 */
   waitPath_s?: number;
   /** survive the pty going away: wait for the path to return and carry on, skipping the lines due meanwhile; default false */
@@ -40,6 +42,8 @@ export interface WriterResult {
   written: number;
   /** times the feed was reopened after the pty came back */
   reopens: number;
+  /** lines skipped while the pty was away (with reopen): the instrument could not send them */
+  skipped: number;
   error?: string;
 }
 
@@ -78,14 +82,14 @@ export function writerProcess(feedPath: string, spec: WriterSpec = {}): Writer {
   const done = new Promise<WriterResult>((resolve) => {
     child.once('exit', (code) => {
       const last = out.trim().split('\n').pop() ?? '';
-      let parsed: { written?: number; reopens?: number; error?: string } = {};
+      let parsed: { written?: number; reopens?: number; skipped?: number; error?: string } = {};
       try {
         parsed = last.startsWith('{') ? JSON.parse(last) : {};
       } catch {
         // killed mid-line: no summary
       }
       if (code === 2 || (code !== 0 && code !== 3 && code !== null)) parsed.error ??= err.trim() || `exit ${code}`;
-      resolve({ code, written: parsed.written ?? 0, reopens: parsed.reopens ?? 0, error: parsed.error });
+      resolve({ code, written: parsed.written ?? 0, reopens: parsed.reopens ?? 0, skipped: parsed.skipped ?? 0, error: parsed.error });
     });
   });
   return {

@@ -1,6 +1,6 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { breakingMass, loadFraction, tensileStress } from '../../src/physics/load.js';
+import { breakingMass, loadFraction, suspendedWeight, tensileStress } from '../../src/physics/load.js';
 import { G_STANDARD } from '../../src/physics/constants.js';
 import { lookupMaterial, tensileStrengthAt } from '../../src/physics/materials.js';
 import { parseCodata } from '../fixtures/materials/parse-codata.js';
@@ -15,6 +15,10 @@ describe('tensile load', () => {
   it('σ = m·g/(πd²/4)', () => {
     // 1 kg on a 1 mm wire: 9.80665 N / 7.853982e-7 m² = 12.48621 MPa (worked by hand)
     expect(tensileStress(1, 1e-3) / 12.48621e6).toBeCloseTo(1, 6);
+  });
+  it('the tension is the weight m·g_n', () => {
+    expect(suspendedWeight(0.5)).toBe(0.5 * 9.80665);
+    expect(tensileStress(0.5, 1e-3)).toBeCloseTo(suspendedWeight(0.5) / (Math.PI * 0.25e-6), 3);
   });
   it('breaking load and load fraction are consistent', () => {
     const m = breakingMass(1e-4, 2e9);

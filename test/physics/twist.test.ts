@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { lookupMaterial, tensileStrengthAt } from '../../src/physics/materials.js';
-import { maxElasticTwist, surfaceShearStrain, surfaceShearStress, twistLimit } from '../../src/physics/twist.js';
+import { maxElasticTwist, surfaceShearStrain, surfaceShearStress, twistLimit, vonMisesStress } from '../../src/physics/twist.js';
+import { breakingMass, suspendedWeight, tensileStress } from '../../src/physics/load.js';
 
 const inch = 0.0254;
 
@@ -40,5 +41,28 @@ describe('twist limit', () => {
     expect(a.basis).toMatch(/assumed default/);
     const b = twistLimit({ diameter_m: 25e-6, length_m: 0.8 }, w, { allowableFraction: 0.2 });
     expect(b.theta_max_rad / a.theta_max_rad).toBeCloseTo(0.5, 12);
+  });
+
+  describe('with the load in tension: von Mises √(σ² + 3τ²) (common practice)', () => {
+    const w = lookupMaterial('tungsten')!;
+    const fibre = { diameter_m: 25e-6, length_m: 0.8 };
+    const free = twistLimit(fibre, w);
+    it('at θ_max the combined stress of twist and load equals the pure-torsion allowable √3·τ_allow', () => {
+      const m = 0.5 * breakingMass(fibre.diameter_m, tensileStrengthAt(w, fibre.diameter_m)); // half the breaking load (common practice)
+      const lim = twistLimit(fibre, w, { tension_N: suspendedWeight(m) });
+      const sigma = tensileStress(m, fibre.diameter_m);
+      expect(lim.tensile_stress_Pa / sigma).toBeCloseTo(1, 12);
+      const tau = surfaceShearStress(w.shearModulus.value, lim.theta_max_rad, fibre.diameter_m, fibre.length_m);
+      expect(vonMisesStress(sigma, tau) / (Math.sqrt(3) * lim.allowable_shear_Pa)).toBeCloseTo(1, 12);
+      // by hand: σ = 0.5·UTS, τ_allow = 0.4·UTS → τ_max = √(0.16 − 0.25/3)·UTS = 0.2769·UTS, 69 % of the free limit
+      expect(lim.theta_max_rad / free.theta_max_rad).toBeCloseTo(Math.sqrt(0.16 - 0.25 / 3) / 0.4, 9);
+      expect(lim.basis).toMatch(/von Mises/);
+    });
+    it('no load: the pure-torsion limit; a load that alone reaches the limit leaves no elastic twist', () => {
+      expect(twistLimit(fibre, w, { tension_N: 0 }).theta_max_rad).toBe(free.theta_max_rad);
+      const over = twistLimit(fibre, w, { tension_N: 2 * suspendedWeight(breakingMass(fibre.diameter_m, tensileStrengthAt(w, fibre.diameter_m))) });
+      expect(over.theta_max_rad).toBe(0);
+      expect(over.basis).toMatch(/the load alone reaches it/);
+    });
   });
 });

@@ -101,13 +101,15 @@ describe('clean', () => {
     expect(out.f.every((f) => f === 0)).toBe(true);
   });
 
-  it('treats a time step back as a gap and honours a driver-set gap mark', () => {
-    const t = new Float64Array([0, 1, 2, 3, 2.5, 3.5, 4.5, 5.5, 6.5, 7.5]);
+  it('masks a time that does not advance (repeated or earlier) instead of calling it a gap, and honours a driver-set gap mark', () => {
+    const t = new Float64Array([0, 1, 2, 3, 2.5, 3, 4, 5, 6, 7]);
     const y = new Float64Array(10);
     const flags = new Uint8Array(10);
     flags[7] = FLAG_AFTER_GAP;
     const out = collect(from(blocks(t, y, flags, [3])).pipe(clean({ hampelHalfWidth: 2, hampelThreshold: 3, gapFactor: 5 })));
-    expect(out.f.flatMap((f, i) => (f & FLAG_AFTER_GAP ? [i] : []))).toEqual([4, 7]);
+    expect(out.f.flatMap((f, i) => (f & FLAG_AFTER_GAP ? [i] : []))).toEqual([7]);
+    // 2.5 goes back, the 3 after it repeats the latest time: both masked, and the axis goes on from 3
+    expect(out.f.flatMap((f, i) => (f & FLAG_INVALID ? [i] : []))).toEqual([4, 5]);
   });
 
   it('holds back only the Hampel delay once the reference interval is known', () => {

@@ -1,5 +1,6 @@
 /** `fibrewatch demo [--out DIR] [--hours H]`: the virtual balance through the real path. */
 import { runDemo } from '../../app/demo.js';
+import { safeText } from '../../display/safe-text.js';
 import { renderSummary } from './show.js';
 
 export async function demoCommand(opts: { out: string; hours: number; inProcess?: boolean; seed: number }): Promise<void> {
@@ -12,8 +13,9 @@ export async function demoCommand(opts: { out: string; hours: number; inProcess?
   const kinds = new Map<string, Set<string>>();
   for (const a of r.alerts) (kinds.get(a.kind) ?? kinds.set(a.kind, new Set()).get(a.kind)!).add(a.state!);
   const story = [...kinds].map(([k, s]) => `${k} (${[...s].join(', ')})`).join('; ');
-  process.stdout.write(`\nalerts: ${story || 'none'}\n`);
+  process.stdout.write(`\nalerts: ${safeText(story || 'none')}\n`);
   process.stdout.write(`path: ${r.mode === 'pty' ? 'pseudo-terminal + serialport' : 'in-process decoder (no pseudo-terminal)'}; took ${((Date.now() - t0) / 1000).toFixed(0)} s\n`);
-  process.stdout.write(`store:  ${r.dbPath}\nreport: ${r.reportPath}\n`);
-  process.stdout.write(`look closer:\n  npx fibrewatch windows ${r.summary.run} --db ${r.dbPath}\n  npx fibrewatch events ${r.summary.run} --db ${r.dbPath}\n`);
+  const db = safeText(r.dbPath);
+  process.stdout.write(`store:  ${db}\nreport: ${safeText(r.reportPath)}\n`);
+  process.stdout.write(`look closer:\n  npx fibrewatch windows ${r.summary.run} --db ${db}\n  npx fibrewatch events ${r.summary.run} --db ${db}\n`);
 }

@@ -1,14 +1,14 @@
 /** `fibrewatch events RUN [--json]`: alerts and incidents with their times. */
 import { getRun } from '../../../db/runs.js';
-import { listEvents, type EventListing } from '../../../db/events-store.js';
+import type { EventListing } from '../../../db/events-store.js';
 import { RuntimeError } from '../../domain/errors.js';
 import { fmt, isoShort, table } from '../../display/format.js';
-import { withQueryStore } from '../store.js';
+import { withReadStore } from '../store.js';
 
 export async function eventsCommand(run: number, opts: { db?: string; json?: boolean }): Promise<void> {
-  withQueryStore(opts.db, (db) => {
-    if (!getRun(db, run)) throw new RuntimeError(`run ${run}: no such run in this store`);
-    const evs = listEvents(db, run);
+  await withReadStore(opts.db, async (store) => {
+    if (!(await store.getRun(run))) throw new RuntimeError(`run ${run}: no such run in this store`);
+    const evs = await store.listEvents(run);
     if (opts.json) {
       process.stdout.write(JSON.stringify(evs, null, 2) + '\n');
       return;

@@ -5,13 +5,12 @@
 import { createWriteStream } from 'node:fs';
 import { once } from 'node:events';
 import type { Writable } from 'node:stream';
-import { getRun } from '../../../db/runs.js';
-import { iterateChunks, listChannels } from '../../../db/sample-reader.js';
-import { listEvents } from '../../../db/events-store.js';
-import { listWindows } from '../../../db/windows-store.js';
+import { describeChunkProblem, type ChunkProblem } from '../../../db/sample-reader.js';
+import type { ReadStore } from '../../../db/read-store.js';
 import { RuntimeError } from '../../domain/errors.js';
 import { csv } from '../../display/format.js';
-import { openForQuery } from '../store.js';
+import { safeText } from '../../display/safe-text.js';
+import { openReadStore } from '../store.js';
 import { WINDOW_COLUMNS, windowRows } from './windows.js';
 
 /** Columns of an events export, in order (docs/commands.md's event fields, then state and data). */
@@ -44,21 +43,21 @@ async function openOut(path: string | undefined): Promise<Writable> {
 }
 
 export async function exportCommand(run: number, opts: { what: 'samples' | 'windows' | 'events'; format: 'csv' | 'json'; out?: string; db?: string }): Promise<void> {
-  const db = openForQuery(opts.db);
+  const store = await openReadStore(opts.db);
   let out: Writable | undefined;
   try {
-    const r = getRun(db, run);
+    const r = await store.getRun(run);
     if (!r) throw new RuntimeError(`run ${run}: no such run in this store`);
     out = await openOut(opts.out);
     if (opts.what === 'samples') {
-      await exportSamples(db, run, out, opts.format);
+      await exportSamples(store, run, out, opts.format);
     } else if (opts.format === 'json') {
-      const rows = opts.what === 'windows' ? windowRows(listWindows(db, run), r.started_at_ms) : listEvents(db, run);
+      const rows = opts.what === 'windows' ? windowRows(await store.listWindows(run), r.started_at_ms) : await store.listEvents(run);
       await write(out, JSON.stringify(rows, null, 2) + '\n');
     } else {
       const rows: Record<string, unknown>[] = opts.what === 'windows'
-        ? windowRows(listWindows(db, run), r.started_at_ms)
-        : listEvents(db, run).map((e) => ({ ...e, data: e.data === null ? null : JSON.stringify(e.data) }));
+        ? windowRows(await store.listWindows(run), r.started_at_ms)
+        : (await store.listEvents(run)).map((e) => ({ ...e, data: e.data === null ? null : JSON.stringify(e.data) }));
       const keys = rows.length ? Object.keys(rows[0]) : opts.what === 'windows' ? WINDOW_COLUMNS : EVENT_COLUMNS;
       await write(out, csv(keys, rows.map((o) => keys.map((k) => o[k]))));
     }
@@ -73,23 +72,26 @@ export async function exportCommand(run: number, opts: { what: 'samples' | 'wind
     if (opts.out && code) throw new RuntimeError(`--out ${opts.out}: ${code} while writing`);
     throw e;
   } finally {
-    db.close();
+    await store.close();
     if (opts.out && out && !out.writableFinished) out.destroy();
   }
 }
 
 /** Columns: t_s, angle_rad, flags, then each raw channel stored with the run. */
-async function exportSamples(db: import('better-sqlite3').Database, run: number, out: Writable, format: 'csv' | 'json'): Promise<void> {
-  const raw = listChannels(db, run).filter((c) => c !== 'angle');
+async function exportSamples(store: ReadStore, run: number, out: Writable, format: 'csv' | 'json'): Promise<void> {
+  const raw = (await store.listChannels(run)).filter((c) => c !== 'angle');
   const header = ['t_s', 'angle_rad', 'flags', ...raw];
-  const angle = iterateChunks(db, run, 'angle');
-  const others = raw.map((c) => iterateChunks(db, run, c));
+  // a corrupt chunk is exported masked (flags FLAG_INVALID, no values) with a warning, never as garbage
+  const onCorrupt = (p: ChunkProblem) =>
+    process.stderr.write(`fibrewatch: warning: ${safeText(describeChunkProblem(p))}; its ${p.masked} samples are exported as invalid (flags 8, no value)\n`);
+  const angle = store.chunks(run, 'angle', { onCorrupt });
+  const others = raw.map((c) => store.chunks(run, c, { onCorrupt })[Symbol.asyncIterator]());
   // the writer cuts every channel's chunks at the same samples, so chunks line up
   if (format === 'csv') await write(out, header.join(',') + '\n');
   else await write(out, '[\n');
   let first = true;
-  for (const a of angle) {
-    const cs = others.map((it) => it.next().value);
+  for await (const a of angle) {
+    const cs = (await Promise.all(others.map((it) => it.next()))).map((r) => (r.done ? undefined : r.value));
     const lines: string[] = [];
     for (let i = 0; i < a.t.length; i++) {
       const vals = [a.t[i], a.v[i], a.flags ? a.flags[i] : 0, ...cs.map((c) => (c && c.t[i] === a.t[i] ? c.v[i] : NaN))];

@@ -3,7 +3,16 @@ import { listFibres } from '../../../db/fibres.js';
 import { fibreHistory } from '../../summaries/fibre-history.js';
 import { RuntimeError } from '../../domain/errors.js';
 import { fmt, isoShort, table, withSigma } from '../../display/format.js';
-import { withQueryStore } from '../store.js';
+import { safeText } from '../../display/safe-text.js';
+import { withReadStore } from '../store.js';
+import { dominantSource } from '../../summaries/budget-text.js';
+import type { FibreHistoryRow } from '../../summaries/fibre-history.js';
+
+/** Which source dominates the σ of κ and of G ("κ: inertia, G: diameter"); the budgets are in `fibre --json`. */
+function dominance(r: FibreHistoryRow): string {
+  const k = dominantSource(r.kappa_sigma_budget), g = dominantSource(r.shear_modulus_sigma_budget);
+  return [k && `κ: ${k}`, g && `G: ${g}`].filter(Boolean).join(', ') || '—';
+}
 
 /** Cross-section for display: the diameter of a round fibre, width × thickness of a ribbon, in µm. */
 function size(f: { diameter_m: number | null; width_m: number | null; thickness_m: number | null }): string {
@@ -13,8 +22,8 @@ function size(f: { diameter_m: number | null; width_m: number | null; thickness_
 }
 
 export async function fibresCommand(opts: { db?: string; json?: boolean }): Promise<void> {
-  withQueryStore(opts.db, (db) => {
-    const fs = listFibres(db);
+  await withReadStore(opts.db, async (store) => {
+    const fs = await store.listFibres();
     if (opts.json) return void process.stdout.write(JSON.stringify(fs, null, 2) + '\n');
     if (!fs.length) return void process.stderr.write('no fibres in this store\n');
     process.stdout.write(table(
@@ -25,19 +34,20 @@ export async function fibresCommand(opts: { db?: string; json?: boolean }): Prom
 }
 
 export async function fibreCommand(name: string, opts: { db?: string; json?: boolean }): Promise<void> {
-  withQueryStore(opts.db, (db) => {
-    if (!listFibres(db).some((f) => f.name === name)) throw new RuntimeError(`fibre "${name}": not in this store (see \`fibrewatch fibres\`)`);
-    const rows = fibreHistory(db, name);
+  await withReadStore(opts.db, async (store) => {
+    if (!(await store.listFibres()).some((f) => f.name === name)) throw new RuntimeError(`fibre "${name}": not in this store (see \`fibrewatch fibres\`)`);
+    const rows = await fibreHistory(store, name);
     if (opts.json) return void process.stdout.write(JSON.stringify(rows, null, 2) + '\n');
-    process.stdout.write(`fibre ${name}: ${rows.length} run${rows.length === 1 ? '' : 's'}\n`);
+    process.stdout.write(`fibre ${safeText(name)}: ${rows.length} run${rows.length === 1 ? '' : 's'}\n`);
     process.stdout.write(table(
-      ['run', 'started (UTC)', 'status', 'period (s)', 'Q', 'κ (N·m/rad)', 'G (GPa)', 'creep (rad/h)', 'κ moved?'],
+      ['run', 'started (UTC)', 'status', 'period (s)', 'Q', 'κ (N·m/rad)', 'G (GPa)', 'creep (rad/h)', 'κ moved?', 'σ mostly from'],
       rows.map((r) => [
         String(r.run), isoShort(r.started_at), r.status, withSigma(r.period_s, r.period_sigma_s), fmt(r.q),
         withSigma(r.kappa_Nm_per_rad, r.kappa_sigma_Nm_per_rad),
         r.shear_modulus_Pa === null ? '—' : withSigma(r.shear_modulus_Pa / 1e9, (r.shear_modulus_sigma_Pa ?? 0) / 1e9),
         r.equilibrium_rate_rad_per_s === null ? '—' : withSigma(r.equilibrium_rate_rad_per_s * 3600, (r.equilibrium_rate_sigma_rad_per_s ?? 0) * 3600),
         r.kappa_moved === null ? '—' : r.kappa_moved ? 'yes' : 'no',
+        dominance(r),
       ]),
     ));
   });

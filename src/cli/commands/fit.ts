@@ -4,6 +4,7 @@ import { loadStation, stationFromColumns, type Station } from '../../config/stat
 import { fitFile, type FileFit } from '../../app/fit-file.js';
 import { UsageError } from '../../domain/errors.js';
 import { withSigma, fmt } from '../../display/format.js';
+import { safeText } from '../../display/safe-text.js';
 
 export async function fitCommand(files: string[], opts: { station?: string; columns?: string; json?: boolean }): Promise<void> {
   if (opts.station && opts.columns) throw new UsageError('--station and --columns: give one, not both');
@@ -17,9 +18,9 @@ export async function fitCommand(files: string[], opts: { station?: string; colu
     const r = await fitFile(f, station);
     if (r.status !== 'ok') {
       failed++;
-      process.stderr.write(`${f}: not fitted: ${r.status} (${r.samples} usable samples${r.bad_records ? `, ${r.bad_records} bad records` : ''})\n`);
+      process.stderr.write(`${safeText(f)}: not fitted: ${r.status} (${r.samples} usable samples${r.bad_records ? `, ${r.bad_records} bad records` : ''})\n`);
     }
-    if (r.caution) process.stderr.write(`${f}: CAUTION: ${r.caution}\n`);
+    if (r.caution) process.stderr.write(`${safeText(f)}: CAUTION: ${safeText(r.caution)}\n`);
     process.stdout.write(opts.json ? JSON.stringify(r) + '\n' : renderFit(r));
   }
   // every file got its line; a file that could not be fitted is bad input
@@ -42,5 +43,5 @@ function renderFit(r: FileFit): string {
     if (r.shear_modulus_Pa != null) l.push(`  G                 ${withSigma(r.shear_modulus_Pa / 1e9, (r.shear_modulus_sigma_Pa ?? 0) / 1e9, 'GPa')}`);
   }
   if (r.twist_limit_rad !== undefined && r.max_twist_rad !== null) l.push(`  twist             ${fmt(r.max_twist_rad)} rad of ${fmt(r.twist_limit_rad)} rad elastic limit`);
-  return l.join('\n') + '\n';
+  return l.map(safeText).join('\n') + '\n';
 }

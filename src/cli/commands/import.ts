@@ -2,12 +2,14 @@
 import { statSync } from 'node:fs';
 import cliProgress from 'cli-progress';
 import { loadStation } from '../../config/station.js';
-import { importFile } from '../../app/import-file.js';
+import { ImportInterrupted, importFile } from '../../app/import-file.js';
 import { buildSummary } from '../../summaries/show-summary.js';
 import { deleteRun, parseDateArg } from '../../../db/runs.js';
-import { UsageError } from '../../domain/errors.js';
-import { openForWrite } from '../store.js';
+import { RuntimeError, UsageError } from '../../domain/errors.js';
+import { safeText } from '../../display/safe-text.js';
+import { dbPath, openForWrite } from '../store.js';
 import { renderSummary } from './show.js';
+import { sqliteReadStore } from '../../../db/read-store.js';
 
 export async function importCommand(file: string, opts: { station: string; startedAt?: string; db?: string; json?: boolean }): Promise<void> {
   const station = loadStation(opts.station);
@@ -36,7 +38,7 @@ export async function importCommand(file: string, opts: { station: string; start
   const t0 = performance.now();
   // lines logged while the bar is drawn are held and printed once it is done
   const held: string[] = [];
-  const log = (l: string) => (bar ? held.push(l) : process.stderr.write(l + '\n'));
+  const log = (l: string) => (bar ? held.push(safeText(l)) : process.stderr.write(safeText(l) + '\n'));
   const flushLog = () => {
     bar?.stop();
     for (const l of held.splice(0)) process.stderr.write(l + '\n');
@@ -47,6 +49,18 @@ export async function importCommand(file: string, opts: { station: string; start
       startedAt_ms,
       onProgress: (done) => bar?.update(done, { rate: (done / 1e6 / ((performance.now() - t0) / 1000 || 1)).toFixed(1) }),
       log,
+    }).catch((e: unknown) => {
+      // stopped by a signal or a full disk before anything was stored: leave no empty run behind
+      let gone = false;
+      try {
+        gone = e instanceof ImportInterrupted && e.samples === 0 && deleteRun(db, e.runId);
+      } catch {
+        // a full store may refuse even the delete: the run stays, closed as interrupted
+      }
+      if (gone) {
+        throw new RuntimeError(`${(e as Error).message.replace(/: run \d+ closed as interrupted with 0 samples$/, '')} before any sample was stored: no run kept`);
+      }
+      throw e;
     });
     flushLog();
     if (res.samples === 0) {
@@ -54,7 +68,7 @@ export async function importCommand(file: string, opts: { station: string; start
       deleteRun(db, res.runId);
       throw new UsageError(`${file}: no samples decoded (${res.badRecords} bad records); check the station's input.format and input.${station.input.format === 'frames' ? 'channels' : 'columns'}`);
     }
-    const s = buildSummary(db, res.runId);
+    const s = await buildSummary(sqliteReadStore(db, dbPath(opts.db)), res.runId);
     process.stdout.write(opts.json ? JSON.stringify(s, null, 2) + '\n' : renderSummary(s));
   } finally {
     flushLog();

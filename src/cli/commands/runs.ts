@@ -1,6 +1,6 @@
 /** `fibrewatch runs`: past runs, filtered by fibre, station and date span. */
-import { openForQuery } from '../store.js';
-import { listRuns, parseDateArg } from '../../../db/runs.js';
+import { withReadStore } from '../store.js';
+import { parseDateArg } from '../../../db/runs.js';
 import { UsageError } from '../../domain/errors.js';
 import { duration, isoShort, table } from '../../display/format.js';
 
@@ -18,9 +18,8 @@ export async function runsCommand(opts: { fibre?: string; station?: string; sinc
   if (since_ms !== undefined && until_ms !== undefined && until_ms <= since_ms) {
     throw new UsageError(`--until: ${opts.until} is not after --since ${opts.since} (the span [since, until) would be empty)`);
   }
-  const db = openForQuery(opts.db);
-  try {
-    const rows = listRuns(db, { fibre: opts.fibre, station: opts.station, since_ms, until_ms });
+  await withReadStore(opts.db, async (store) => {
+    const rows = await store.listRuns({ fibre: opts.fibre, station: opts.station, since_ms, until_ms });
     if (opts.json) {
       process.stdout.write(JSON.stringify(rows, null, 2) + '\n');
       return;
@@ -37,7 +36,5 @@ export async function runsCommand(opts: { fibre?: string; station?: string; sinc
         r.status, String(r.samples), String(r.windows ?? ''), String(r.gaps ?? ''),
       ]),
     ));
-  } finally {
-    db.close();
-  }
+  });
 }

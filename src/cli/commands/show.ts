@@ -1,19 +1,16 @@
 /** `fibrewatch show RUN [--json]`: one run's summary. */
-import { openForQuery } from '../store.js';
+import { withReadStore } from '../store.js';
 import { buildSummary, type ShowSummary } from '../../summaries/show-summary.js';
 import { duration, fmt, isoShort, withSigma } from '../../display/format.js';
+import { budgetText, correctionsText } from '../../summaries/budget-text.js';
+import { safeText } from '../../display/safe-text.js';
 
 export async function showCommand(run: number, opts: { db?: string; json?: boolean }): Promise<void> {
-  const db = openForQuery(opts.db);
-  try {
-    const s = buildSummary(db, run);
-    process.stdout.write(opts.json ? JSON.stringify(s, null, 2) + '\n' : renderSummary(s));
-  } finally {
-    db.close();
-  }
+  const s = await withReadStore(opts.db, (store) => buildSummary(store, run));
+  process.stdout.write(opts.json ? JSON.stringify(s, null, 2) + '\n' : renderSummary(s));
 }
 
-/** The human-readable summary (also printed by `demo` and `import`). */
+/** The human-readable summary (also printed by `demo` and `import`); names and messages are made terminal-safe line by line. */
 export function renderSummary(s: ShowSummary): string {
   const perH = (x: number | null | undefined) => (x === null || x === undefined ? null : x * 3600);
   const row = (label: string, value: string) => `  ${label.padEnd(18)}${value}`;
@@ -22,16 +19,18 @@ export function renderSummary(s: ShowSummary): string {
     row('span (UTC)', `${isoShort(s.started_at)} → ${isoShort(s.ended_at, '(still recording)')}${s.duration_s !== null ? `  (${duration(s.duration_s)})` : ''}`),
     row('samples', `${s.samples}   windows ${s.windows} (${s.windows_ok} ok)   gaps ${s.gaps}   events ${s.events}`),
     row('period', withSigma(s.period_s, s.period_sigma_s, 's')),
-    row('Q', withSigma(s.q, s.q_sigma)),
+    row('Q', `${withSigma(s.q, s.q_sigma)}${s.q === null ? '' : ' (from the amplitude decay over the run)'}`),
     row('equilibrium rate', `${withSigma(perH(s.equilibrium_rate_rad_per_s), perH(s.equilibrium_rate_sigma_rad_per_s), 'rad/h')}${s.equilibrium_rate_rad_per_s === null ? '' : ' (over the run)'}`),
   ];
-  if (s.kappa_Nm_per_rad !== undefined) lines.push(row('κ', withSigma(s.kappa_Nm_per_rad, s.kappa_sigma_Nm_per_rad, 'N·m/rad')));
+  const budget = (b: string): string => (b ? `   ${b}` : '');
+  if (s.kappa_Nm_per_rad !== undefined) lines.push(row('κ', withSigma(s.kappa_Nm_per_rad, s.kappa_sigma_Nm_per_rad, 'N·m/rad') + budget(budgetText(s.kappa_sigma_budget))));
   if (s.shear_modulus_Pa !== undefined) {
     const g = s.shear_modulus_Pa === null ? null : s.shear_modulus_Pa / 1e9;
     const gs = s.shear_modulus_sigma_Pa == null ? null : s.shear_modulus_sigma_Pa / 1e9;
-    lines.push(row('G', withSigma(g, gs, 'GPa')));
+    lines.push(row('G', withSigma(g, gs, 'GPa') + budget(budgetText(s.shear_modulus_sigma_budget))));
   }
+  lines.push(row('corrections', correctionsText(s)));
   if (s.amplitude_rad !== null) lines.push(row('amplitude', `${fmt(s.amplitude_rad)} rad (last window)`));
   for (const a of s.alerts) lines.push(row('alert', `${a.kind}: ${a.state} at ${isoShort(a.t)} — ${a.message}`));
-  return lines.join('\n') + '\n';
+  return lines.map(safeText).join('\n') + '\n';
 }

@@ -4,7 +4,7 @@ import { getRun } from '../../../db/runs.js';
 import { listWindows } from '../../../db/windows-store.js';
 import { RuntimeError, UsageError } from '../../domain/errors.js';
 import { csv, table, withSigma, fmt } from '../../display/format.js';
-import { withQueryStore } from '../store.js';
+import { withReadStore } from '../store.js';
 
 /** Columns of a window row, in order (used for the CSV header when a run has no windows yet). */
 export const WINDOW_COLUMNS: string[] = [...WINDOW_FIELDS, 't_mid'];
@@ -16,10 +16,10 @@ export function windowRows(ws: WindowResult[], startedAt_ms: number): Record<str
 
 export async function windowsCommand(run: number, opts: { db?: string; json?: boolean; csv?: boolean }): Promise<void> {
   if (opts.json && opts.csv) throw new UsageError('--json and --csv: choose one');
-  withQueryStore(opts.db, (db) => {
-    const r = getRun(db, run);
+  await withReadStore(opts.db, async (store) => {
+    const r = await store.getRun(run);
     if (!r) throw new RuntimeError(`run ${run}: no such run in this store`);
-    const rows = windowRows(listWindows(db, run), r.started_at_ms);
+    const rows = windowRows(await store.listWindows(run), r.started_at_ms);
     if (opts.json) {
       process.stdout.write(JSON.stringify(rows, null, 2) + '\n');
     } else if (opts.csv) {
