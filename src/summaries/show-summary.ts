@@ -5,6 +5,7 @@ import { RuntimeError } from '../domain/errors.js';
 import { parseStation, type Station } from '../config/station.js';
 import { deriveContextFor, systematicsFor, temperatureFor } from '../config/derive-context.js';
 import type { Damping } from '../physics/thermal.js';
+import { noiseHeadline, type NoiseHeadline } from './noise-headline.js';
 
 export interface ShowSummary {
   run: number;
@@ -49,6 +50,8 @@ export interface ShowSummary {
   temperature_K: number | null;
   temperature_source: 'recorded' | 'station' | 'assumed' | null;
   amplitude_rad: number | null;
+  /** the noise headline from the windows and the thermal limits (the full budget: `noise RUN`) */
+  noise: NoiseHeadline;
   events: number;
   alerts: { kind: string; state: string | null; t: string; message: string }[];
 }
@@ -85,7 +88,8 @@ export async function buildSummary(store: ReadStore, runId: number): Promise<Sho
   const run = await store.getRun(runId);
   if (!run) throw new RuntimeError(`run ${runId}: no such run in this store`);
   const opts = summaryOptionsOf(run.station_config);
-  const s = summariseWindows(await store.listWindows(runId), opts);
+  const windows = await store.listWindows(runId);
+  const s = summariseWindows(windows, opts);
   const alerts = latestAlertStates(await store.listEvents(runId));
   const out: ShowSummary = {
     run: run.run,
@@ -115,6 +119,10 @@ export async function buildSummary(store: ReadStore, runId: number): Promise<Sho
     temperature_K: s.decay_rate_temperature_K,
     temperature_source: s.decay_rate_temperature_K === null ? null : s.decay_rate_temperature_recorded ? 'recorded' : opts.temperatureAssumed ? 'assumed' : 'station',
     amplitude_rad: s.amplitude_rad,
+    noise: noiseHeadline(windows, {
+      kappa_Nm_per_rad: s.kappa_Nm_per_rad, q: s.q, inertia_kg_m2: opts.context?.inertia_kg_m2,
+      temperature_K: s.decay_rate_temperature_K ?? opts.temperature_K ?? 295, damping: opts.context?.damping ?? 'internal',
+    }),
     events: await store.countEvents(runId),
     alerts,
   };

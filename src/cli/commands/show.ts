@@ -31,6 +31,23 @@ export function renderSummary(s: ShowSummary): string {
   }
   lines.push(row('corrections', correctionsText(s)));
   if (s.amplitude_rad !== null) lines.push(row('amplitude', `${fmt(s.amplitude_rad)} rad (last window)`));
+  lines.push(...noiseRows(s, row));
   for (const a of s.alerts) lines.push(row('alert', `${a.kind}: ${a.state} at ${isoShort(a.t)} — ${a.message}`));
   return lines.map(safeText).join('\n') + '\n';
+}
+
+/** The noise headline: stability floors from the windows, thermal limits from κ, Q and T. */
+function noiseRows(s: ShowSummary, row: (label: string, value: string) => string): string[] {
+  const n = s.noise;
+  const out: string[] = [];
+  const at = (tau: number | null) => (tau === null ? '' : ` at τ = ${duration(tau)}`);
+  const parts: string[] = [];
+  if (n.equilibrium_adev_min_rad !== null) parts.push(`equilibrium ${fmt(n.equilibrium_adev_min_rad)} rad${at(n.equilibrium_adev_min_tau_s)}`);
+  if (n.period_adev_min !== null) parts.push(`period ${fmt(n.period_adev_min * 1e6)} ppm${at(n.period_adev_min_tau_s)}`);
+  if (parts.length) out.push(row('stability floor', `${parts.join('; ')} (lowest Allan deviation)`));
+  const th: string[] = [];
+  if (n.thermal_angle_rms_rad !== null) th.push(`angle rms ${fmt(n.thermal_angle_rms_rad)} rad`);
+  if (n.thermal_torque_asd_at_resonance_Nm_per_rtHz !== null) th.push(`torque ${fmt(n.thermal_torque_asd_at_resonance_Nm_per_rtHz)} N·m/√Hz at resonance`);
+  if (th.length) out.push(row('thermal limit', `${th.join(', ')}${s.temperature_source === 'assumed' ? ' (295 K assumed)' : ''}; full budget: fibrewatch noise ${s.run}`));
+  return out;
 }
