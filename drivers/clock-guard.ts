@@ -36,7 +36,7 @@
  */
 import { FLAG_AFTER_GAP, FLAG_INVALID, type AngleBlock } from '../src/domain/block.js';
 import type { Incident } from '../src/domain/events.js';
-import { median } from '../src/analysis/median.js';
+import { median, medianSelect } from '../src/analysis/median.js';
 
 /** Options of ClockGuard. */
 export interface ClockGuardOptions {
@@ -90,6 +90,7 @@ export class ClockGuard {
   /** added to every raw time since the last clock step */
   private offset = 0;
   private readonly ring = new Float64Array(RING);
+  private readonly scratch = new Float64Array(RING);
   private ringN = 0;
   private ringAt = 0;
   /** samples waiting for a decision (a block of the same shape, or undefined) */
@@ -180,9 +181,8 @@ export class ClockGuard {
       if (tg !== undefined) {
         const step = ti - tg;
         if (step > 0 && step <= this.factor * this.dt) {
-          // the common case
-          if (t) t[i] = ti;
-          this.accept(ti, step);
+          // the common case: the whole run of normal steps in a tight loop, on locals
+          i = this.acceptRun(src, i, n, t) - 1;
           continue;
         }
         if (!Number.isFinite(ti)) {
@@ -275,12 +275,34 @@ export class ClockGuard {
     out.blocks.push({ block, faults: faults ? faults.subarray(0, m) : null });
   }
 
-  /** A normal step: trust the time and keep the running interval. */
-  private accept(ti: number, step: number): void {
-    this.tg = ti;
-    this.ring[this.ringAt] = step;
-    this.ringAt = (this.ringAt + 1) % RING;
-    if (++this.ringN % RING === 0) this.dt = median(Array.from(this.ring));
+  /**
+   * Trust src[i…] while each steps normally from the last trusted time, keeping
+   * the running interval (median of the last RING steps); returns the index of
+   * the first sample that does not (or n). src[i] must step normally.
+   */
+  private acceptRun(src: Float64Array, i: number, n: number, t: Float64Array | undefined): number {
+    const ring = this.ring, off = this.offset;
+    let last = this.tg!, at = this.ringAt, rn = this.ringN, lim = this.factor * this.dt;
+    let j = i;
+    for (; j < n; j++) {
+      const tj = src[j] + off;
+      const step = tj - last;
+      if (!(step > 0 && step <= lim)) break;
+      if (t) t[j] = tj;
+      last = tj;
+      ring[at] = step;
+      at = at + 1 === RING ? 0 : at + 1;
+      if (++rn % RING === 0) {
+        // selection on a copy: the ring keeps its order
+        this.scratch.set(ring);
+        this.dt = medianSelect(this.scratch);
+        lim = this.factor * this.dt;
+      }
+    }
+    this.tg = last;
+    this.ringAt = at;
+    this.ringN = rn;
+    return j;
   }
 
   /** Emit the gathered clock-fault report when due (always when forced). */

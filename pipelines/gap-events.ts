@@ -23,31 +23,38 @@ export interface GapEventsOptions {
 export function gapEvents(report: (inc: Incident) => void, opts: GapEventsOptions = {}): (source: Observable<AngleBlock>) => Observable<AngleBlock> {
   return (source) =>
     operate<AngleBlock, AngleBlock>(source, (out) => {
-      let lastT: number | undefined;
+      let lastT = NaN;
       // the last regular step between two samples, s: a break no longer than about one step lost no time
       let lastStep = NaN;
       return {
         next(b) {
+          // a local copy: a captured double written per sample would be boxed each time
+          let step = lastStep;
+          // NaN, not undefined, before the first sample: the loop stays on unboxed doubles
+          let prev = lastT;
           for (let i = 0; i < b.n; i++) {
-            const prev = i > 0 ? b.t[i - 1] : lastT;
+            const ti = b.t[i];
+            const before = prev;
+            prev = ti;
             if (!(b.flags[i] & FLAG_AFTER_GAP)) {
-              if (prev !== undefined && b.t[i] > prev) lastStep = b.t[i] - prev;
+              if (ti > before) step = ti - before;
               continue;
             }
-            if (prev === undefined || opts.isFaultRestart?.(prev, b.t[i])) continue;
-            const duration_s = b.t[i] - prev;
+            if (Number.isNaN(before) || opts.isFaultRestart?.(before, ti)) continue;
+            const duration_s = ti - before;
             // never a gap of zero or negative length (a repeated or earlier time is a clock fault), and
             // none for a break that lost no time (a device clock step re-timed to the next slot: its
             // clock-note says so)
-            if (!(duration_s > 0) || duration_s <= 1.5 * lastStep) continue;
+            if (!(duration_s > 0) || duration_s <= 1.5 * step) continue;
             // whole sample intervals missing, at the regular step before the gap
-            const lost = Number.isFinite(lastStep) ? Math.max(0, Math.round(duration_s / lastStep) - 1) : null;
+            const lost = Number.isFinite(step) ? Math.max(0, Math.round(duration_s / step) - 1) : null;
             report({
-              kind: 'gap', severity: 'warning', t: prev, host_ms: b.host_ms,
+              kind: 'gap', severity: 'warning', t: before, host_ms: b.host_ms,
               message: `no samples for ${duration_s.toFixed(2)} s (sample times jump${lost === null ? '' : `; about ${lost} samples`})`,
               value: duration_s, data: { duration_s, from: 'sample-times', lost_samples: lost },
             });
           }
+          lastStep = step;
           if (b.n) lastT = b.t[b.n - 1];
           out.next(b);
         },
