@@ -5,7 +5,8 @@ import { FLAG_INVALID, FLAG_SATURATED } from '../domain/block.js';
 import { analyseWindow } from '../analysis/window-analysis.js';
 import { WindowNoiseModel } from '../analysis/phase-diffusion.js';
 import { readRecording } from './read-recording.js';
-import { deriveContextFor, systematicsFor, twistLimitFor } from '../config/derive-context.js';
+import { deriveContextFor, quantumFor, systematicsFor, twistLimitFor } from '../config/derive-context.js';
+import { hampelSpikes } from '../analysis/hampel.js';
 import { combinedRelative, kappaSystematics, shearModulusSystematics } from '../analysis/systematics.js';
 
 /** The fitted numbers of docs/commands.md's `fit` output, as a window stores them. */
@@ -35,10 +36,15 @@ export async function fitFile(path: string, station: Station): Promise<FileFit> 
   const mask = new Uint8Array(n);
   const seedMask = new Uint8Array(n);
   let masked = 0;
+  const usable = new Uint8Array(n);
+  for (let i = 0; i < n; i++) usable[i] = rec.flags[i] & (FLAG_SATURATED | FLAG_INVALID) || !Number.isFinite(rec.angle[i]) ? 0 : 1;
+  // spikes as `import` marks them (pipelines/clean.ts): one absurd value must not cost the whole file
+  const a = station.analysis;
+  const spikes = hampelSpikes(rec.angle, usable, { halfWidth: a.hampel_half_width, threshold: a.hampel_threshold, minScale: quantumFor(station) });
   for (let i = 0; i < n; i++) {
-    if (rec.flags[i] & (FLAG_SATURATED | FLAG_INVALID) || !Number.isFinite(rec.angle[i])) { mask[i] = 1; masked++; }
-    // a saturated value still helps find the period; an invalid one (bad time or value) does not
-    if (rec.flags[i] & FLAG_INVALID || !Number.isFinite(rec.angle[i])) seedMask[i] = 1;
+    if (!usable[i] || spikes[i]) { mask[i] = 1; masked++; }
+    // a saturated value still helps find the period; an invalid one (bad time or value) or a spike does not
+    if (rec.flags[i] & FLAG_INVALID || spikes[i] || !Number.isFinite(rec.angle[i])) seedMask[i] = 1;
   }
   const w = { index: 0, t: rec.t, y: rec.angle, mask, seedMask, temp: rec.temp, t_start_s: n ? rec.t[0] : 0, t_end_s: n ? rec.t[n - 1] : 0 };
   const ctx = deriveContextFor(station);

@@ -26,7 +26,7 @@ import { faultMessage } from '../../pipelines/restart-on-fault.js';
 import { createDispatcher, type AlertDispatcher } from '../alerts/alert-dispatcher.js';
 import type { BlockSink } from './acquisition.js';
 import type { RunSession } from './run-session.js';
-import { deriveContextFor, twistLimitFor } from '../config/derive-context.js';
+import { deriveContextFor, quantumFor, twistLimitFor } from '../config/derive-context.js';
 
 export interface LiveSinkOptions {
   /** a live source: watch for silence on host timers (default true) */
@@ -78,11 +78,10 @@ export function makeLiveSink(station: Station, session: RunSession, opts: LiveSi
   const blocks$ = new Subject<AngleBlock>();
   const a = station.analysis;
   const al = station.alerts;
-  const quantum = station.sensor.kind === 'encoder' ? (2 * Math.PI) / station.sensor.counts_per_rev : undefined;
   const p = analysisPipeline(blocks$, {
     analysis: a,
     derive: deriveContextFor(station),
-    quantum_rad: quantum,
+    quantum_rad: quantumFor(station),
     noise: { damping: station.pendulum.damping, temperature_K: station.environment.temperature_K },
     onIncident: (inc) => session.incident(runTimeIncident(inc)),
     onFirstEstimate: (period, factor) => log(`first period estimate ${period.toPrecision(5)} s: fitting at ${factor > 1 ? `1/${factor} of the input rate` : 'the input rate'}`),

@@ -64,3 +64,8 @@ export function twistLimitFor(station: Station): TwistLimit | undefined {
     return undefined;
   }
 }
+
+/** The angle step of a counting sensor, rad (the Hampel filter's floor on its scale); undefined for an analogue one. */
+export function quantumFor(station: Station): number | undefined {
+  return station.sensor.kind === 'encoder' ? (2 * Math.PI) / station.sensor.counts_per_rev : undefined;
+}

@@ -2,7 +2,7 @@ import { median, medianAbsoluteDeviation } from 'simple-statistics';
 import { describe, expect, it } from 'vitest';
 import { HAMPEL_CLEAN, HAMPEL_PENDING, HAMPEL_SPIKE, HampelDetector } from '../../src/analysis/hampel.js';
 import { rng } from '../helpers/blocks.js';
-import { hampelSpikes } from '../helpers/hampel-batch.js';
+import { hampelSpikes } from '../../src/analysis/hampel.js';
 
 
 /**

@@ -1,5 +1,6 @@
 /**
- * Property tests (fast-check) of the two wire decoders and the clock unwrapper,
+ * Property tests (fast-check) of the two wire decoders, the clock unwrapper and
+ * the clock guard (bad device times),
  * run in a child process by decoder-properties.test.ts so that a case that
  * hangs can be stopped: before each case this writes `case N` on stdout, and
  * the test kills the process when a case takes too long.
@@ -18,6 +19,11 @@ import { LinesDecoder } from '../../drivers/lines-decoder.js';
 import { Unwrapper } from '../../drivers/unwrap.js';
 import { encodeFrames } from '../../drivers/wire-encode.js';
 import type { Incident } from '../../src/domain/events.js';
+import { from } from 'rxjs';
+import { ClockGuard, type GuardResult } from '../../drivers/clock-guard.js';
+import { FLAG_INVALID, type AngleBlock } from '../../src/domain/block.js';
+import { clean } from '../../pipelines/clean.js';
+import { gapEvents } from '../../pipelines/gap-events.js';
 
 let caseNo = 0;
 /** Mark the start of a case for the watchdog. */
@@ -286,7 +292,95 @@ export const PROPERTIES: Record<string, () => fc.IPropertyWithHooks<unknown[]> |
         check(Math.abs(k - Math.round(k)) < 1e-3 * Math.max(1, Math.abs(k)), `reading ${x} → ${y}: not a whole number of wraps of ${m}`);
       }
     }),
+
+  /**
+   * The clock guard on any device times (NaN, ±Infinity, repeats, steps back, leaps of any size), cut
+   * into blocks anywhere: no throw; every sample either handed on or counted as dropped; times
+   * handed on finite and never going back; masked exactly the samples it counts; and after `clean`
+   * no gap event of zero or negative length.
+   */
+  'clock: any time series': () =>
+    fc.property(
+      fc.array(fc.oneof(
+        fc.double({ min: -1e6, max: 1e6, noNaN: true }),
+        fc.constantFrom(NaN, Infinity, -Infinity, 1e308, 0),
+        fc.integer({ min: 0, max: 200 }).map((k) => k * 0.02),
+      ), { maxLength: 400 }),
+      cuts,
+      (ts, at) => {
+        started();
+        guardChecks(Float64Array.from(ts), at);
+      }),
+
+  /**
+   * A regular 50 Hz clock with faults sprinkled in (absurd, repeated, back, NaN): the good samples far
+   * from any fault keep their times exactly.
+   */
+  'clock: good times intact': () =>
+    fc.property(
+      fc.integer({ min: 20, max: 600 }),
+      fc.array(fc.tuple(fc.double({ min: 0, max: 1, noNaN: true }), fc.constantFrom(1e308, NaN, -5, 0, 'repeat' as const)), { maxLength: 6 }),
+      cuts,
+      (n, faults, at) => {
+        started();
+        const t = Float64Array.from({ length: n }, (_, i) => i * 0.02);
+        const bad = new Set<number>();
+        for (const [f, v] of faults) {
+          const i = 1 + Math.floor(f * (n - 2));
+          t[i] = v === 'repeat' ? t[i - 1] : v;
+          bad.add(i);
+        }
+        const out = guardChecks(t, at);
+        // values are the input indices: a good sample with no fault within 4 places keeps its time
+        for (let j = 0; j < out.y.length; j++) {
+          const i = out.y[j];
+          let near = false;
+          for (const b of bad) if (Math.abs(b - i) <= 4) near = true;
+          if (!near && !out.masked[j]) check(out.t[j] === i * 0.02, `sample ${i}: time ${out.t[j]}, was ${i * 0.02}`);
+        }
+      }),
 };
+
+/** Run the guard (then clean and gap events) over `t` cut at `at`; check what holds for any input. */
+function guardChecks(t: Float64Array, at: number[]): { t: number[]; y: number[]; masked: boolean[] } {
+  const n = t.length;
+  const y = Float64Array.from({ length: n }, (_, i) => i);
+  const g = new ClockGuard();
+  const out = { t: [] as number[], y: [] as number[], masked: [] as boolean[] };
+  const blocks: AngleBlock[] = [];
+  let masked = 0;
+  const take = (r: GuardResult) => {
+    for (const { block, faults } of r.blocks) {
+      check(block.n === block.t.length && block.n === block.angle.length, `block of n = ${block.n}`);
+      blocks.push(block);
+      for (let i = 0; i < block.n; i++) {
+        check(Number.isFinite(block.t[i]), `time ${block.t[i]} handed on`);
+        check(out.t.length === 0 || block.t[i] >= out.t[out.t.length - 1], `time went back: ${out.t[out.t.length - 1]} → ${block.t[i]}`);
+        const m = (block.flags[i] & FLAG_INVALID) !== 0;
+        check(m === Boolean(faults?.[i]), 'a fault is masked, and only faults are');
+        if (m) masked++;
+        out.t.push(block.t[i]);
+        out.y.push(block.angle[i]);
+        out.masked.push(m);
+      }
+    }
+  };
+  const pieces = split(new Uint8Array(n), at);
+  let p = 0;
+  for (const piece of pieces) {
+    const k = piece.length;
+    if (k === 0) continue;
+    take(g.push({ n: k, t: t.slice(p, p + k), angle: y.slice(p, p + k), flags: new Uint8Array(k), channels: {}, clock: 'device', host_ms: p }));
+    p += k;
+  }
+  take(g.flush(n));
+  check(out.t.length + g.stats.dropped === n, `${n} in, ${out.t.length} out and ${g.stats.dropped} dropped`);
+  check(masked === g.stats.masked, `${masked} masked, ${g.stats.masked} counted`);
+  const gaps: Incident[] = [];
+  from(blocks).pipe(clean({ hampelHalfWidth: 3, hampelThreshold: 5 }), gapEvents((inc) => gaps.push(inc))).subscribe();
+  for (const e of gaps) check(e.kind === 'gap' && (e.value as number) > 0, `gap of ${e.value} s`);
+  return out;
+}
 
 if (process.argv[1] && import.meta.url === pathToFileURL(process.argv[1]).href) {
   const [name, seed, runs] = process.argv.slice(2);

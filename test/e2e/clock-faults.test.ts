@@ -125,4 +125,14 @@ describe('import with bad device times', () => {
     expect(fit.samples).toBe(N - 1);
     expect(fit.period_s).toBeCloseTo(T_s, 4);
   }, 60_000);
+
+  it('`fit` with one angle of 1e308 among 6000: masks it as a spike (as `import` does) and fits the rest', async () => {
+    const file = recording('absurd-angle', (_t, y) => (y[3000] = 1e308));
+    const r = await runCliAsync(['fit', file, '--station', station, '--json']);
+    expect(r.status, r.stderr).toBe(0);
+    const fit = JSON.parse(r.stdout) as { status: string; samples_masked: number; period_s: number };
+    expect(fit.status).toBe('ok');
+    expect(fit.samples_masked).toBe(1);
+    expect(fit.period_s).toBeCloseTo(T_s, 4);
+  }, 60_000);
 });
