@@ -8,10 +8,20 @@ import { prepared } from './statements.js';
 /** WindowResult fields stored as columns of the same name (index → idx). */
 const FIELDS = WINDOW_FIELDS.filter((f) => f !== 'index');
 
+const LIST = `SELECT idx, ${FIELDS.join(', ')} FROM windows WHERE run_id = ? ORDER BY idx`;
+
+/**
+ * A raw row (values in LIST's column order) as a WindowResult. Written as one
+ * object literal, so every result has the same compact shape: rows as objects
+ * from the driver, or built field by field, are dictionaries of several kB
+ * each, and a week-long run has ten thousand windows.
+ */
+const fromRow = new Function('r', `return { index: r[0], ${FIELDS.map((f, i) => `${f}: r[${i + 1}]`).join(', ')} };`) as (r: unknown[]) => WindowResult;
+
 const statements = (db: Database) => ({
   insert: db.prepare(`INSERT OR REPLACE INTO windows (run_id, idx, ${FIELDS.join(', ')})
                       VALUES (?, ?, ${FIELDS.map(() => '?').join(', ')})`),
-  list: db.prepare(`SELECT idx, ${FIELDS.join(', ')} FROM windows WHERE run_id = ? ORDER BY idx`),
+  list: db.prepare(LIST).raw(),
 });
 
 /** Store (or replace, by index) window results in one transaction. Non-finite numbers are stored as null. */
@@ -30,21 +40,13 @@ export function insertWindows(db: Database, runId: number, rows: readonly Window
   })();
 }
 
-function toResult(r: Record<string, unknown> & { idx: number }): WindowResult {
-  const w = { index: r.idx } as Record<string, unknown>;
-  for (const f of FIELDS) w[f] = r[f];
-  return w as unknown as WindowResult;
-}
-
 /** A run's window results in index order. */
 export function listWindows(db: Database, runId: number): WindowResult[] {
-  const rows = prepared(db, statements).list.all(runId) as (Record<string, unknown> & { idx: number })[];
-  return rows.map(toResult);
+  return (prepared(db, statements).list.all(runId) as unknown[][]).map(fromRow);
 }
 
 /** The same, one row at a time (a week-long run has ten thousand windows). Finish the iteration before writing on this connection. */
 export function* iterateWindows(db: Database, runId: number): Generator<WindowResult> {
   // a fresh statement: an iterating statement is busy until the loop ends, and callers may nest
-  const stmt = db.prepare(`SELECT idx, ${FIELDS.join(', ')} FROM windows WHERE run_id = ? ORDER BY idx`);
-  for (const r of stmt.iterate(runId) as Iterable<Record<string, unknown> & { idx: number }>) yield toResult(r);
+  for (const r of db.prepare(LIST).raw().iterate(runId) as Iterable<unknown[]>) yield fromRow(r);
 }
