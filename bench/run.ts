@@ -18,6 +18,10 @@ const BENCHES: Bench[] = [
   { name: 'soak', file: './soak.js', fn: 'benchSoak' },
   { name: 'noise', file: './noise.js', fn: 'benchNoise' },
   { name: 'sigma', file: './sigma-map.js', fn: 'benchSigmaMap' },
+  { name: 'compare', file: './compare.js', fn: 'benchCompare' },
+  { name: 'serve', file: './serve.js', fn: 'benchServe' },
+  { name: 'sync', file: './sync.js', fn: 'benchSync' },
+  { name: 'archive-query', file: './archive-query.js', fn: 'benchArchiveQuery' },
 ];
 
 async function main(): Promise<void> {

@@ -4,6 +4,7 @@
  * at the last good version. Never edit a released migration: add a new one.
  */
 import type { Database } from 'better-sqlite3';
+import { legacyRunUid } from './run-uid.js';
 
 /** One schema step: `up` takes the store from `version - 1` to `version`. */
 export interface Migration {
@@ -160,6 +161,31 @@ export const MIGRATIONS: readonly Migration[] = [
       db.exec(`
         ALTER TABLE windows ADD COLUMN decay_rate_per_s REAL;
         ALTER TABLE windows ADD COLUMN decay_rate_sigma_per_s REAL;
+      `);
+    },
+  },
+  {
+    version: 6,
+    description: "each run's uid (names it in the lab archive) and what the archive holds of each run",
+    up(db) {
+      db.exec('ALTER TABLE runs ADD COLUMN uid TEXT');
+      // runs from before uids get a name-based one: the same store upgraded twice (in place or in
+      // a read-only copy) gives the same uids, so a sync never sees one run under two names
+      const old = db.prepare(`SELECT r.id, s.name AS station, r.started_at_ms, r.source, r.source_path
+                              FROM runs r JOIN stations s ON s.id = r.station_id WHERE r.uid IS NULL`).all() as Parameters<typeof legacyRunUid>[0][];
+      const set = db.prepare('UPDATE runs SET uid = ? WHERE id = ?');
+      for (const r of old) set.run(legacyRunUid(r), r.id);
+      db.exec(`
+        CREATE UNIQUE INDEX runs_by_uid ON runs (uid);
+        -- the last sync of each run to a lab archive (informational: the archive's own
+        -- contents decide what a sync sends, so losing this table loses nothing)
+        CREATE TABLE archive_sync (
+          run_id       INTEGER PRIMARY KEY REFERENCES runs(id) ON DELETE CASCADE,
+          archive      TEXT NOT NULL,          -- the archive's URL without its password
+          archive_run  INTEGER NOT NULL,       -- the run's number in the archive
+          synced_at_ms INTEGER NOT NULL,       -- UTC ms of the sync
+          synced_to_s  REAL                    -- t_s of the last sample the archive then held
+        );
       `);
     },
   },

@@ -14,7 +14,8 @@ import { getRun, listRuns, type RunFilter, type RunListing, type RunRecord } fro
 import { countEvents, listEvents, type EventListing, type ListEventsOptions } from './events-store.js';
 import { listWindows } from './windows-store.js';
 import { fibreRuns, listFibres, type FibreListing, type FibreRun } from './fibres.js';
-import { iterateChunks, listChannels, type IterateChunksOptions, type SampleChunk } from './sample-reader.js';
+import { concatChunks, iterateChunks, listChannels, type IterateChunksOptions, type SampleChunk } from './sample-reader.js';
+import { archiveStateOf, type ArchiveState } from './archive-sync-state.js';
 
 /** A store opened for reading. */
 export interface ReadStore {
@@ -34,6 +35,8 @@ export interface ReadStore {
   fibreRuns(name: string): Promise<FibreRun[]>;
   /** a number that changes whenever another connection commits (cheap: for polling by a live view) */
   changeToken(): Promise<number>;
+  /** how far the lab archive is behind for this run (station: from its last sync; archive: from its own record) */
+  archiveState(run: number): Promise<ArchiveState>;
   close(): Promise<void>;
 }
 
@@ -56,6 +59,7 @@ export function sqliteReadStore(db: Database, label: string): ReadStore {
     fibreRuns: async (name) => fibreRuns(db, name),
     // PRAGMA data_version changes when another connection commits: no table is read
     changeToken: async () => db.pragma('data_version', { simple: true }) as number,
+    archiveState: async (run) => archiveStateOf(db, run),
     close: async () => {
       if (db.open) db.close();
     },
@@ -65,18 +69,6 @@ export function sqliteReadStore(db: Database, label: string): ReadStore {
 /** All of one channel's samples within a range as typed arrays (gathered from `chunks`). */
 export async function readAllSamples(store: ReadStore, run: number, channel: string, opts: IterateChunksOptions = {}): Promise<{ t: Float64Array; v: Float64Array; flags: Uint8Array }> {
   const parts: SampleChunk[] = [];
-  let n = 0;
-  for await (const c of store.chunks(run, channel, opts)) {
-    parts.push(c);
-    n += c.t.length;
-  }
-  const t = new Float64Array(n), v = new Float64Array(n), flags = new Uint8Array(n);
-  let p = 0;
-  for (const c of parts) {
-    t.set(c.t, p);
-    v.set(c.v, p);
-    flags.set(c.flags, p);
-    p += c.t.length;
-  }
-  return { t, v, flags };
+  for await (const c of store.chunks(run, channel, opts)) parts.push(c);
+  return concatChunks(parts);
 }

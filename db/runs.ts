@@ -4,6 +4,7 @@
  */
 import type { Database } from 'better-sqlite3';
 import { prepared } from './statements.js';
+import { newRunUid } from './run-uid.js';
 
 export type RunStatus = 'recording' | 'complete' | 'interrupted';
 export type RunSource = 'device' | 'file' | 'simulator';
@@ -35,6 +36,8 @@ export interface NewRun {
   meta?: object;
   /** the process writing the run (its heartbeat starts now): tells a live run from a crashed one */
   recorder?: RecorderInfo;
+  /** the run's uid; default a fresh random one (db/run-uid.ts) */
+  uid?: string;
 }
 
 /** The process that writes a run. */
@@ -66,6 +69,10 @@ export interface RunListing {
   source: RunSource;
   gaps: number;
   windows: number;
+  /** made by the station when the run began: names the run in the lab archive too */
+  uid: string;
+  /** the run's number in its station's store (in a station's store: `run` itself; in the archive: the station's number) */
+  station_run: number;
 }
 
 /** Everything stored about one run. */
@@ -125,10 +132,10 @@ export function createRun(db: Database, r: NewRun): number {
       });
     const fibreId = (db.prepare('SELECT id FROM fibres WHERE name = ?').get(f.name) as { id: number }).id;
     const info = db.prepare(`INSERT INTO runs (station_id, fibre_id, started_at_ms, status, source, source_path, clock, meta_json,
-                                               recorder_pid, recorder_host, heartbeat_ms)
-                             VALUES (?, ?, ?, 'recording', ?, ?, ?, ?, ?, ?, ?)`)
+                                               recorder_pid, recorder_host, heartbeat_ms, uid)
+                             VALUES (?, ?, ?, 'recording', ?, ?, ?, ?, ?, ?, ?, ?)`)
       .run(stationId, fibreId, started, r.source, r.sourcePath ?? null, r.clock ?? 'host', r.meta === undefined ? null : JSON.stringify(r.meta),
-        r.recorder?.pid ?? null, r.recorder?.host ?? null, r.recorder ? now : null);
+        r.recorder?.pid ?? null, r.recorder?.host ?? null, r.recorder ? now : null, r.uid ?? newRunUid());
     return Number(info.lastInsertRowid);
   }).immediate();
 }
@@ -204,17 +211,22 @@ export function markInterrupted(db: Database, station?: string, keep: readonly n
 
 const LISTING_SELECT = `
   SELECT r.id AS run, s.name AS station, f.name AS fibre, r.started_at_ms, r.ended_at_ms, r.samples,
-         r.status, r.source, r.gaps, (SELECT COUNT(*) FROM windows w WHERE w.run_id = r.id) AS windows
+         r.status, r.source, r.gaps, (SELECT COUNT(*) FROM windows w WHERE w.run_id = r.id) AS windows,
+         r.uid, r.id AS station_run
   FROM runs r JOIN stations s ON s.id = r.station_id JOIN fibres f ON f.id = r.fibre_id`;
 
-interface ListingRow {
+/** A run's row as the listing queries select it (both stores select these names). */
+export interface ListingRow {
   run: number; station: string; fibre: string; started_at_ms: number; ended_at_ms: number | null;
   samples: number; status: RunStatus; source: RunSource; gaps: number; windows: number;
+  uid: string; station_run: number;
 }
 
-const toListing = (r: ListingRow): RunListing => ({
+/** A listing row in the shape of `runs --json`. */
+export const toListing = (r: ListingRow): RunListing => ({
   run: r.run, station: r.station, fibre: r.fibre, started_at: iso(r.started_at_ms)!, ended_at: iso(r.ended_at_ms),
   samples: r.samples, status: r.status, source: r.source, gaps: r.gaps, windows: r.windows,
+  uid: r.uid, station_run: r.station_run,
 });
 
 /**
@@ -242,14 +254,22 @@ export function getRun(db: Database, runId: number): RunRecord | undefined {
            r.status, r.source, r.gaps, r.source_path, r.clock, r.meta_json, s.config_json,
            f.material, f.diameter_m, f.length_m, f.width_m, f.thickness_m,
            (SELECT COUNT(*) FROM windows w WHERE w.run_id = r.id) AS windows,
-           (SELECT COUNT(*) FROM events e WHERE e.run_id = r.id) AS events
+           (SELECT COUNT(*) FROM events e WHERE e.run_id = r.id) AS events,
+           r.uid, r.id AS station_run
     FROM runs r JOIN stations s ON s.id = r.station_id JOIN fibres f ON f.id = r.fibre_id
-    WHERE r.id = ?`).get(runId) as (ListingRow & {
-      source_path: string | null; clock: RunClock; meta_json: string | null; config_json: string | null;
-      material: string | null; diameter_m: number | null; length_m: number | null; width_m: number | null;
-      thickness_m: number | null; events: number;
-    }) | undefined;
-  if (!r) return undefined;
+    WHERE r.id = ?`).get(runId) as RecordRow | undefined;
+  return r && toRecord(r);
+}
+
+/** A run's row as getRun selects it (both stores select these names). */
+export type RecordRow = ListingRow & {
+  source_path: string | null; clock: RunClock; meta_json: string | null; config_json: string | null;
+  material: string | null; diameter_m: number | null; length_m: number | null; width_m: number | null;
+  thickness_m: number | null; events: number;
+};
+
+/** A getRun row as a RunRecord. */
+export function toRecord(r: RecordRow): RunRecord {
   return {
     ...toListing(r),
     started_at_ms: r.started_at_ms,

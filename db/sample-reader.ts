@@ -85,28 +85,38 @@ export function* iterateChunks(db: Database, runId: number, channel: string, opt
   for (;;) {
     const rows = stmt.all(runId, channel, after, Math.max(from, -1e308), Math.min(to, 1e308), batch) as Row[];
     for (const row of rows) {
-      const got = inspectChunk(row);
-      let d: DecodedChunk;
-      let state: SampleChunk['state'];
-      if (got.state === 'corrupt') {
-        d = maskedChunk(row);
-        state = 'masked';
-        const p: ChunkProblem = {
-          run: runId, channel, seq: row.seq, t0_s: row.t0_s, t1_s: row.t1_s, count: row.count,
-          problem: got.problem, detail: got.detail, masked: d.t.length,
-        };
-        if (!opts.onCorrupt) throw new CorruptChunkError(p);
-        opts.onCorrupt(p);
-      } else {
-        d = got.chunk;
-        state = got.state;
-      }
-      const c = trim(d, from, to);
-      if (c.t.length > 0) yield { ...c, seq: row.seq, state };
+      const c = readStoredChunk(row, runId, channel, opts);
+      if (c) yield c;
     }
     if (rows.length < batch) return;
     after = rows[rows.length - 1].seq;
   }
+}
+
+/**
+ * One stored chunk row (from either store) verified, decoded and trimmed to
+ * [from_s, to_s); undefined when nothing of it is in range. A corrupt row
+ * comes back masked and is told to `onCorrupt`, or throws CorruptChunkError.
+ */
+export function readStoredChunk(row: CheckedChunkRow & { seq: number }, runId: number, channel: string, opts: ReadSamplesOptions = {}): SampleChunk | undefined {
+  const got = inspectChunk(row);
+  let d: DecodedChunk;
+  let state: SampleChunk['state'];
+  if (got.state === 'corrupt') {
+    d = maskedChunk(row);
+    state = 'masked';
+    const p: ChunkProblem = {
+      run: runId, channel, seq: row.seq, t0_s: row.t0_s, t1_s: row.t1_s, count: row.count,
+      problem: got.problem, detail: got.detail, masked: d.t.length,
+    };
+    if (!opts.onCorrupt) throw new CorruptChunkError(p);
+    opts.onCorrupt(p);
+  } else {
+    d = got.chunk;
+    state = got.state;
+  }
+  const c = trim(d, opts.from_s ?? -Infinity, opts.to_s ?? Infinity);
+  return c.t.length > 0 ? { ...c, seq: row.seq, state } : undefined;
 }
 
 /** Keep samples with from ≤ t < to (times within a chunk are in order). */
@@ -122,15 +132,15 @@ function trim(d: DecodedChunk, from: number, to: number): DecodedChunk {
 
 /** All samples of one channel of a run within [from_s, to_s), as typed arrays. */
 export function readSamples(db: Database, runId: number, channel: string, opts: ReadSamplesOptions = {}): { t: Float64Array; v: Float64Array; flags: Uint8Array } {
-  const parts: DecodedChunk[] = [];
+  return concatChunks(iterateChunks(db, runId, channel, opts));
+}
+
+/** Chunks gathered into one set of typed arrays (the chunks are held until the total is known). */
+export function concatChunks(chunks: Iterable<{ t: Float64Array; v: Float64Array; flags: Uint8Array }>): { t: Float64Array; v: Float64Array; flags: Uint8Array } {
+  const parts = [...chunks];
   let n = 0;
-  for (const c of iterateChunks(db, runId, channel, opts)) {
-    parts.push(c);
-    n += c.t.length;
-  }
-  const t = new Float64Array(n);
-  const v = new Float64Array(n);
-  const flags = new Uint8Array(n);
+  for (const c of parts) n += c.t.length;
+  const t = new Float64Array(n), v = new Float64Array(n), flags = new Uint8Array(n);
   let p = 0;
   for (const c of parts) {
     t.set(c.t, p);

@@ -37,7 +37,20 @@
  * - the state is y = θ − θ_eq: the slow equilibrium (creep, twists) is added
  *   afterwards, so the pendulum follows it quasi-statically. The neglected lag
  *   is of order θ̈_eq/ω₀², negligible for creep over minutes to days;
- * - a disturbance acts at the first sample at or after its time.
+ * - a disturbance acts at the first sample at or after its time;
+ * - configurations (scenario `configurations`): each state puts a steady torque
+ *   τ on the pendulum, so the equilibrium sits τ/κ away (κ the scenario's
+ *   reference κ, so the truth is exact), and scales κ for its `period_ppm`; at a
+ *   switch the equilibrium steps and the angle stays continuous (y − Δ), which
+ *   is exactly a step torque's effect on a linear oscillator: the swing about the
+ *   new equilibrium gains up to Δ. The state takes effect at the first sample at
+ *   or after the switch, the sample whose `state` channel shows it;
+ * - anelastic fibre (scenario `anelastic`): κ is scaled by (1 + s·A/T_ref)⁻², so
+ *   the period grows by s·A (s in s/rad), A the swing's amplitude now:
+ *   √(y² + ((v + γ·y)/ω_d)²), which is exactly A·e^(−γt) for the free motion
+ *   A·e^(−γt)·cos(ω_d·t + φ) (a smoothed amplitude would lag it, and bias the
+ *   slope a fit finds by the lag over the decay time: 0.3 % at T/τ = 0.003);
+ * - `drift`: θ_eq also moves by rate·t + quadratic·t².
  */
 import { K_BOLTZMANN } from '../../src/physics/constants.js';
 import { Rng } from '../../src/analysis/rng.js';
@@ -188,6 +201,8 @@ export interface BalanceBlock {
   temperature_K: Float64Array;
   /** thermal torque held over each sample's step, N·m (internal damping with thermal noise only) */
   torque_Nm?: Float64Array;
+  /** the configuration's state at each sample (scenarios with configurations only) */
+  state?: Float64Array;
 }
 
 /** Advances one scenario's balance sample by sample; deterministic for a seed. */
@@ -211,6 +226,13 @@ export class Balance {
   private readonly ouDecay: Float64Array;
   private readonly ouDrive: Float64Array;
   private torqueScale = 0; // √(variance of one component), N·m, at the propagator's κ
+  // configurations: the state in force (index into sc.configurations.states) and the schedule's switch times
+  private readonly switchT: Float64Array;
+  private readonly switchIdx: Int32Array;
+  private stateIdx = -1;
+  // anelastic fibre: the swing's amplitude, rad, and the reference period, s
+  private ampEnv = 0;
+  private readonly tRef: number;
 
   constructor(readonly sc: Scenario, readonly rng: Rng) {
     this.h = 1 / sc.sample_rate_Hz;
@@ -218,6 +240,11 @@ export class Balance {
     this.dist = [...sc.disturbances].sort((a, b) => a.t_s - b.t_s);
     if (sc.creep) this.creeps.push({ a: sc.creep.a_rad, tc: sc.creep.tc_s, start: sc.creep.start_s });
     this.steps = [...sc.period_steps].sort((a, b) => a.t_s - b.t_s).map((p) => ({ t: p.t_s, f: 1 / (1 + p.ppm * 1e-6) ** 2 }));
+    const cf = sc.configurations;
+    const sched = cf?.schedule ?? [];
+    this.switchT = Float64Array.from(sched, (e) => e.t_s);
+    this.switchIdx = Int32Array.from(sched, (e) => cf!.states.findIndex((st) => st.state === e.state));
+    this.tRef = 2 * Math.PI * Math.sqrt(sc.I / sc.kappa);
     // initial state: the given swing θ − θ_eq = A·cos φ at t = 0 of A·e^{−t/τ}·cos(ω_d t + φ),
     // plus a draw from the thermal equilibrium distribution
     const k0 = this.kappaAt(0);
@@ -229,6 +256,7 @@ export class Balance {
     const ph = sc.initial.phase_rad;
     this.y = A * Math.cos(ph);
     this.v = -A * (g * Math.cos(ph) + wd * Math.sin(ph));
+    this.ampEnv = A;
     if (this.kT > 0) {
       this.y += Math.sqrt(this.kT / k0) * rng.normal();
       this.v += Math.sqrt(this.kT / sc.I) * rng.normal();
@@ -258,9 +286,26 @@ export class Balance {
     return this.sc.temperature_K + sw.amplitude_K * Math.sin((2 * Math.PI * t) / sw.period_s + sw.phase_rad);
   }
 
-  /** Torsion constant at time t, N·m/rad: temperature and period steps applied. */
+  /** Index (into scenario.configurations.states) of the state in force at time t; −1 without configurations. */
+  stateIndexAt(t: number): number {
+    const cf = this.sc.configurations;
+    if (!cf) return -1;
+    if (cf.every_s !== undefined) return Math.floor(Math.max(t, 0) / cf.every_s) % cf.states.length;
+    // the last scheduled switch at or before t (binary search); the first state before any
+    let lo = 0, hi = this.switchT.length;
+    while (lo < hi) {
+      const mid = (lo + hi) >> 1;
+      if (this.switchT[mid] <= t) lo = mid + 1;
+      else hi = mid;
+    }
+    return lo === 0 ? 0 : this.switchIdx[lo - 1];
+  }
+
+  /** Torsion constant at time t, N·m/rad: temperature, period steps and the configuration's period applied. */
   kappaAt(t: number): number {
     let f = 1;
+    const si = this.stateIndexAt(t);
+    if (si >= 0) f /= (1 + this.sc.configurations!.states[si].period_ppm * 1e-6) ** 2;
     const sw = this.sc.temperature_swing;
     if (sw) {
       const dT = this.temperatureAt(t) - this.sc.temperature_K;
@@ -274,11 +319,18 @@ export class Balance {
     return this.sc.kappa * f;
   }
 
-  /** Equilibrium angle at time t, rad (initial + twists so far + logarithmic creep terms). */
+  /** Equilibrium angle at time t, rad (initial + twists so far + logarithmic creep terms + polynomial drift + the configuration's deflection). */
   private equilibriumAt(t: number): number {
     let e = this.sc.initial.equilibrium_rad + this.eqStep;
     for (const c of this.creeps) if (t > c.start) e += c.a * Math.log1p((t - c.start) / c.tc);
-    return e;
+    const d = this.sc.drift;
+    if (d) e += d.rate_rad_per_s * t + d.quadratic_rad_per_s2 * t * t;
+    return e + this.deflection(this.stateIndexAt(t));
+  }
+
+  /** The configuration's deflection τ/κ, rad (κ the scenario's reference). */
+  private deflection(si: number): number {
+    return si < 0 ? 0 : this.sc.configurations!.states[si].torque_Nm / this.sc.kappa;
   }
 
   /** Simulate the next n samples into fresh arrays. */
@@ -287,6 +339,8 @@ export class Balance {
     const sc = this.sc;
     const n1 = this.n1;
     const torque = this.internal ? (out.torque_Nm = new Float64Array(n)) : undefined;
+    const states = sc.configurations ? (out.state = new Float64Array(n)) : undefined;
+    const slope = sc.anelastic?.period_amplitude_slope_s_per_rad ?? 0;
     const ou = this.ou, decay = this.ouDecay, drive = this.ouDrive;
     for (let i = 0; i < n; i++, this.k++) {
       const t = this.k / this.sc.sample_rate_Hz; // k/fs, not k·h: exact decimal times where possible
@@ -298,6 +352,15 @@ export class Balance {
         if (d.twist_turns !== undefined) this.eqStep += 2 * Math.PI * d.twist_turns;
         if (d.creep) this.creeps.push({ a: d.creep.a_rad, tc: d.creep.tc_s, start: d.t_s });
       }
+      if (states) {
+        // a switch: the equilibrium steps, the angle does not (a step torque on a linear oscillator)
+        const si = this.stateIndexAt(t);
+        if (si !== this.stateIdx) {
+          if (this.stateIdx >= 0) this.y -= this.deflection(si) - this.deflection(this.stateIdx);
+          this.stateIdx = si;
+        }
+        states[i] = sc.configurations!.states[si].state;
+      }
       const eq = this.equilibriumAt(t);
       out.t[i] = t;
       out.theta[i] = eq + this.y;
@@ -305,7 +368,8 @@ export class Balance {
       out.temperature_K[i] = this.temperatureAt(t);
       // advance y over [t, t + h] with κ at the step's middle; rebuild Φ only when κ
       // has moved by more than 1e-10 relative (5e-11 in period)
-      const kap = this.kappaAt(t + this.h / 2);
+      // anelastic: the period grows by slope × the smoothed amplitude
+      const kap = this.kappaAt(t + this.h / 2) * (slope !== 0 ? 1 / (1 + (slope * this.ampEnv) / this.tRef) ** 2 : 1);
       if (!(Math.abs(kap - this.propKappa) <= 1e-10 * kap)) {
         // internal damping: no white torque; the coloured one enters through `input`
         const m = this.mechanics(kap);
@@ -335,6 +399,10 @@ export class Balance {
       } else {
         this.y = y;
         this.v = v;
+      }
+      if (slope !== 0) {
+        const g = this.prop.gamma, wd = Math.sqrt(this.prop.omega0 ** 2 - g * g);
+        this.ampEnv = Math.sqrt(this.y * this.y + ((this.v + g * this.y) / wd) ** 2);
       }
     }
     return out;

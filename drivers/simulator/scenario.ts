@@ -59,6 +59,24 @@ const outputSchema = z.strictObject({
   digits: z.number('must be a number').int('must be an integer').min(1, 'must be ≥ 1').max(17, 'must be ≤ 17').optional(),
 }).default({ format: 'lines' });
 
+// a state label is a whole number (docs/commands.md, column role `state`)
+const stateNumber = () => z.number('must be a number').int('must be an integer');
+
+const configurationsSchema = z.strictObject({
+  /** what each configuration does to the balance */
+  states: z.array(z.strictObject({
+    state: stateNumber(),
+    /** steady torque on the pendulum in this configuration, N·m: the equilibrium sits torque/κ away */
+    torque_Nm: num().default(0),
+    /** the period in this configuration, ppm from the fibre's own (a gravity gradient stiffens or softens it) */
+    period_ppm: num().default(0),
+  })).min(1, 'must list at least one state'),
+  /** switch to the next state in the list every every_s, cycling, from the first at t = 0 */
+  every_s: pos().optional(),
+  /** or switch at these times (the first state in the list holds until the first entry) */
+  schedule: z.array(z.strictObject({ t_s: nonneg(), state: stateNumber() })).optional(),
+});
+
 /** The zod schema of a scenario file (fields in SI units; defaults noted per field). */
 export const scenarioSchema = z.strictObject({
   name: z.string('must be a string').min(1, 'must not be empty'),
@@ -108,6 +126,12 @@ export const scenarioSchema = z.strictObject({
     creep: z.strictObject({ a_rad: num(), tc_s: pos() }).optional(),
   })).default([]),
   period_steps: z.array(z.strictObject({ t_s: nonneg(), ppm: num() })).default([]),
+  /** a polynomial drift of the equilibrium on top of any creep: θ_eq += rate·t + quadratic·t² */
+  drift: z.strictObject({ rate_rad_per_s: num().default(0), quadratic_rad_per_s2: num().default(0) }).optional(),
+  /** configurations of the apparatus (source masses moved, …): a torque and a period per state, written as a `state` channel */
+  configurations: configurationsSchema.optional(),
+  /** anelastic fibre: the period grows by slope × the swing's amplitude (default: none, the period is amplitude-independent) */
+  anelastic: z.strictObject({ period_amplitude_slope_s_per_rad: num() }).optional(),
   dropouts: z.array(z.strictObject({ t_s: nonneg(), duration_s: pos() })).default([]),
   temperature_channel: z.strictObject({
     /** rms noise of the thermometer, K (default 0) */
@@ -198,12 +222,25 @@ function resolve(s: Parsed, source: string): Scenario {
   for (const [i, d] of s.disturbances.entries()) {
     if (d.kick_rad === undefined && d.twist_turns === undefined && d.creep === undefined) fail(`disturbances[${i}]`, 'needs kick_rad, twist_turns or creep');
   }
+  if (s.configurations) {
+    const cf = s.configurations;
+    const known = new Set<number>();
+    cf.states.forEach((st, i) => {
+      if (known.has(st.state)) fail(`configurations.states[${i}].state`, `${st.state} is listed twice`);
+      known.add(st.state);
+    });
+    if ((cf.every_s === undefined) === (cf.schedule === undefined)) fail('configurations', 'give either every_s or schedule');
+    cf.schedule?.forEach((e, i) => {
+      if (!known.has(e.state)) fail(`configurations.schedule[${i}].state`, `${e.state} is not among configurations.states`);
+      if (i > 0 && e.t_s < cf.schedule![i - 1].t_s) fail(`configurations.schedule[${i}].t_s`, 'must not be before the entry above it');
+    });
+  }
   // output layout
   const own = sensorRoles(s.sensor.kind);
   const psdHalves = (roles: string[]) => s.sensor.kind === 'psd' && roles.includes('a') && roles.includes('b');
   let columns: ColumnRole[] = [];
   let channels: { role: ColumnRole; scale: number }[] = [];
-  const extra: ValueRole[] = s.temperature_channel ? ['temp_C'] : [];
+  const extra: ValueRole[] = [...(s.temperature_channel ? ['temp_C' as const] : []), ...(s.configurations ? ['state' as const] : [])];
   if (s.output.format === 'lines') {
     columns = (s.output.columns as ColumnRole[] | undefined) ?? ['t_s', ...own, ...extra];
     if (s.output.channels) fail('output.channels', 'applies to format "frames" only (use output.columns)');
@@ -225,9 +262,10 @@ function resolve(s: Parsed, source: string): Scenario {
     const needs = psdHalves(roles) ? [] : own;
     for (const r of needs) if (!roles.includes(r)) fail(field, `sensor "${s.sensor.kind}" writes a "${r}" channel; list it`);
     if (roles.includes('temp_C') && !s.temperature_channel) fail(field, '"temp_C" needs temperature_channel');
+    if (roles.includes('state') && !s.configurations) fail(field, '"state" needs configurations');
     for (const r of roles) {
       if (r === '_' || (TIME_ROLES as readonly string[]).includes(r)) continue;
-      if (!own.includes(r as ValueRole) && r !== 'temp_C' && !(psdHalves(roles) && (r === 'a' || r === 'b'))) {
+      if (!own.includes(r as ValueRole) && r !== 'temp_C' && r !== 'state' && !(psdHalves(roles) && (r === 'a' || r === 'b'))) {
         fail(field, `"${r}" is not produced by sensor "${s.sensor.kind}"`);
       }
     }

@@ -21,7 +21,7 @@ export interface SimBlock {
   thetaEq: Float64Array;
   /** pendulum temperature, K */
   temperature_K: Float64Array;
-  /** raw channels as the device writes them (sensor roles, temp_C) */
+  /** raw channels as the device writes them (sensor roles, temp_C, state) */
   channels: Partial<Record<ValueRole, Float64Array>>;
   /** 1 where the sample is written, 0 inside a dropout */
   keep: Uint8Array;
@@ -77,6 +77,7 @@ export class SimulatorSource {
       for (let i = 0; i < n; i++) tc[i] = b.temperature_K[i] - 273.15 + (sd > 0 ? sd * this.tempRng.normal() : 0);
       channels.temp_C = tc;
     }
+    if (b.state) channels.state = b.state;
     const keep = new Uint8Array(n).fill(1);
     for (const d of this.sc.dropouts) {
       const end = d.t_s + d.duration_s;

@@ -9,6 +9,23 @@
  * trailing `tempHorizon_s` of windows that were not in alert and within one
  * threshold of the baseline, once their temperatures span `tempMinSpan_K`.
  *
+ * Amplitude: an anelastic fibre's period follows the swing's amplitude, so a
+ * swing decaying over a day moves the period with nothing wrong. Given the
+ * fibre's slope s (`amplitudeSlope_s_per_rad`, e.g. from its earlier runs,
+ * `fibrewatch fibre`), s·(A − A_ref) is removed from each window's shift, A_ref
+ * the baseline's mean amplitude. Without one, the trailing windows that looked
+ * normal give it (jointly with the temperature term,
+ * src/analysis/amplitude-slope.ts), but only once the swing has been
+ * re-excited among them (its amplitude rose by 10 % or more: a knock, a
+ * configuration switch, a deliberate kick), the slope is beyond 3σ, and the
+ * amplitude explains the periods better than a drift of the same windows does,
+ * straight or curved (a quadratic in time; χ² lower by 9 × the overlap). Over a
+ * free decay alone the amplitude falls as smoothly as time passes, and a drift
+ * of the period (a room's daily swing without a thermometer, creep of the
+ * fibre) would be taken for anelasticity: it then hid a real change, or,
+ * extrapolated, raised a false one. A quiet decay therefore needs the fibre's
+ * slope given.
+ *
  * Raise rule: CUSUM statistic > h AND the latest window's shift ≥
  * raiseFraction × period_change_ppm on the same side (see the option) AND
  * that shift is beyond 3σ of the window's own (honest) σ, which is at most a
@@ -19,6 +36,8 @@ import type { Incident } from '../../src/domain/events.js';
 import type { WindowResult } from '../../src/domain/window-result.js';
 import { cusumInit, cusumOptions, cusumStatistic, cusumStep, type CusumOptions } from '../../src/analysis/cusum.js';
 import { fitTempCoefficient } from '../../src/analysis/temp-coefficient.js';
+import { fitAmplitudeSlope, periodAmplitude } from '../../src/analysis/amplitude-slope.js';
+import { weightedLeastSquares } from '../../src/analysis/weighted-least-squares.js';
 import { weightedMean } from '../../src/analysis/weighted-stats.js';
 import { createAlertState, type AlertTuning } from './alert-state.js';
 import { operate } from '../operate.js';
@@ -37,6 +56,15 @@ export interface WatchPeriodOptions extends AlertTuning {
   tempHorizon_s?: number;
   /** least temperature span before the fit is used, K (default 0.3) */
   tempMinSpan_K?: number;
+  /** the fibre's known period-amplitude slope, s/rad, and its σ (default: learned from the run, see above) */
+  amplitudeSlope_s_per_rad?: number;
+  amplitudeSlopeSigma_s_per_rad?: number;
+  /** learn the amplitude slope from the run when none is given (default true) */
+  correctAmplitude?: boolean;
+  /** least relative span of the amplitude before a learned slope is used (default 0.1) */
+  amplitudeMinSpan?: number;
+  /** window_periods/step_periods of the windows, for the learned slope's σ (default 4, the station's defaults) */
+  overlap?: number;
   /** CUSUM tuning in units of the change (see cusum.ts) */
   cusum?: CusumOptions;
   /**
@@ -65,6 +93,11 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
   const prior = (opts.tempCoefficient_ppm_per_K ?? 0) * 1e-6;
   const tempHorizon = opts.tempHorizon_s ?? 86400;
   const minSpan = opts.tempMinSpan_K ?? 0.3;
+  const priorSlope = opts.amplitudeSlope_s_per_rad;
+  const learnAmp = priorSlope === undefined && (opts.correctAmplitude ?? true);
+  const ampMinSpan = opts.amplitudeMinSpan ?? 0.1;
+  const overlap = opts.overlap ?? 4;
+  if (priorSlope !== undefined && !Number.isFinite(priorSlope)) throw new RangeError(`watchPeriod: amplitudeSlope_s_per_rad must be finite, got ${priorSlope}`);
   const co = cusumOptions(opts.cusum);
   const raiseFrac = opts.raiseFraction ?? 0.7;
   if (!(raiseFrac >= 0 && raiseFrac <= 1)) throw new RangeError(`watchPeriod: raiseFraction must be in [0, 1], got ${raiseFrac}`);
@@ -77,24 +110,31 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
         updateEvery_s: opts.updateEvery_s ?? 1800,
         clearFraction: opts.clearFraction, clearAfter: opts.clearAfter,
       });
-      const base: { p: number; s: number; T: number | null }[] = [];
+      const base: { p: number; s: number; T: number | null; A: number }[] = [];
       let pRef = NaN;
       let tRef: number | null = null;
+      let aRef = NaN;
+      // the amplitude slope in use, s/rad (0: none) and its σ
+      let ampSlope = priorSlope ?? 0;
+      let ampSlopeSigma = priorSlope !== undefined ? Math.abs(opts.amplitudeSlopeSigma_s_per_rad ?? 0) : 0;
+      let ampLearned = false;
       let state = cusumInit();
       let coef = prior;
       let coefSigma = 0;
       let coefFitted = false;
       // trailing buffer for the temperature fit
-      let bt: number[] = [], bT: number[] = [], bp: number[] = [], bs: number[] = [];
+      let bt: number[] = [], bT: number[] = [], bp: number[] = [], bs: number[] = [], bA: number[] = [];
       const recent: number[] = [];
       const onWindow = (w: WindowResult): void => {
         if (w.status !== 'ok' || w.period_s === null || !Number.isFinite(w.period_s)) return;
         const p = w.period_s;
         const sp = w.period_sigma_s !== null && Number.isFinite(w.period_sigma_s) ? w.period_sigma_s : NaN;
         const T = w.temp_C !== null && Number.isFinite(w.temp_C) ? w.temp_C : null;
+        // the amplitude the window's period belongs to (a hair above the one at its middle)
+        const A = w.amplitude_rad !== null && Number.isFinite(w.amplitude_rad) ? Math.abs(periodAmplitude(w)) : NaN;
         const t = w.t_mid_s;
         if (!Number.isFinite(pRef)) {
-          base.push({ p, s: sp, T });
+          base.push({ p, s: sp, T, A });
           if (base.length < nBase) return;
           // weighted mean, σ floored at 1 ppm of the median so one over-confident window cannot set the
           // baseline; a window without σ counts as 10 ppm
@@ -105,12 +145,15 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
           for (const b of base) if (b.T !== null) { sT += b.T; nT++; }
           pRef = m.mean;
           tRef = nT > 0 ? sT / nT : null;
+          const amps = base.map((b) => b.A).filter(Number.isFinite);
+          aRef = amps.length ? amps.reduce((a, b) => a + b, 0) / amps.length : NaN;
           return;
         }
         const dT = T !== null && tRef !== null ? T - tRef : 0;
         const useCoef = correct && T !== null && tRef !== null;
-        const r = p / pRef - 1 - (useCoef ? coef * dT : 0);
-        const sr = Math.hypot(Number.isFinite(sp) ? sp / pRef : Infinity, useCoef ? coefSigma * dT : 0);
+        const dA = ampSlope !== 0 && Number.isFinite(A) && Number.isFinite(aRef) ? A - aRef : 0;
+        const r = p / pRef - 1 - (useCoef ? coef * dT : 0) - (ampSlope * dA) / pRef;
+        const sr = Math.hypot(Number.isFinite(sp) ? sp / pRef : Infinity, useCoef ? coefSigma * dT : 0, (ampSlopeSigma * dA) / pRef);
         state = cusumStep(state, r, sr, delta, co);
         const { g, side } = cusumStatistic(state);
         recent.push(r);
@@ -130,29 +173,76 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
           threshold: ppm,
           message: (st) => st === 'cleared'
             ? `period back within ${(alert.clearFraction * ppm).toFixed(0)} ppm of the baseline ${pRef.toFixed(6)} s: ${fmtPpm(shift)} ppm now`
-            : `period ${side > 0 ? 'up' : 'down'}: ${fmtPpm(shift)} ppm from the baseline ${pRef.toFixed(6)} s (threshold ${ppm} ppm; CUSUM ${g.toFixed(2)}, decision level ${co.h}, in units of ${ppm} ppm${useCoef && (coefFitted || prior !== 0) ? `; temperature removed at ${(coef * 1e6).toFixed(1)} ppm/K${coefFitted ? '' : ' (prior)'}` : ''})`,
+            : `period ${side > 0 ? 'up' : 'down'}: ${fmtPpm(shift)} ppm from the baseline ${pRef.toFixed(6)} s (threshold ${ppm} ppm; CUSUM ${g.toFixed(2)}, decision level ${co.h}, in units of ${ppm} ppm${useCoef && (coefFitted || prior !== 0) ? `; temperature removed at ${(coef * 1e6).toFixed(1)} ppm/K${coefFitted ? '' : ' (prior)'}` : ''}${dA !== 0 ? `; swing amplitude removed at ${ampSlope.toPrecision(3)} s/rad${ampLearned ? '' : ' (given)'}` : ''})`,
           data: {
             unit: 'ppm', shift_ppm: shift * 1e6, period_s: p, baseline_period_s: pRef, cusum: g, cusum_h: co.h,
             side, temp_coefficient_ppm_per_K: useCoef ? coef * 1e6 : null, temp_coefficient_fitted: coefFitted, t_mid_s: t,
+            amplitude_slope_s_per_rad: ampSlope !== 0 ? ampSlope : null, amplitude_slope_learned: ampLearned,
           },
         });
         if (inc) out.next(inc);
-        // learn the temperature coefficient from windows that look normal
-        if (correct && T !== null && !alert.active && Math.abs(r) < delta) {
-          bt.push(t); bT.push(T); bp.push(p); bs.push(sp);
+        // learn the temperature coefficient (and the amplitude slope) from windows that look normal
+        if (((correct && T !== null) || (learnAmp && Number.isFinite(A))) && !alert.active && Math.abs(r) < delta) {
+          bt.push(t); bT.push(T ?? NaN); bp.push(p); bs.push(sp); bA.push(A);
           let k = 0;
           while (k < bt.length && bt[k] < t - tempHorizon) k++;
-          if (k > 0) { bt = bt.slice(k); bT = bT.slice(k); bp = bp.slice(k); bs = bs.slice(k); }
-          const fit = bt.length >= 10 ? fitTempCoefficient(bT, bp, bs) : null;
-          if (fit && fit.temp_span_K >= minSpan) {
-            coef = fit.coef_per_K;
-            coefSigma = fit.coef_sigma_per_K;
+          if (k > 0) { bt = bt.slice(k); bT = bT.slice(k); bp = bp.slice(k); bs = bs.slice(k); bA = bA.slice(k); }
+          if (bt.length < 10) return;
+          const tFit = correct && bT.every(Number.isFinite) ? fitTempCoefficient(bT, bp, bs) : null;
+          const withT = tFit !== null && tFit.temp_span_K >= minSpan;
+          if (learnAmp && learnAmplitude(withT)) return;
+          if (tFit && withT) {
+            coef = tFit.coef_per_K;
+            coefSigma = tFit.coef_sigma_per_K;
             coefFitted = true;
           }
         }
       };
+      /** Adopt the buffer's amplitude slope (and its joint temperature term) when it passes the tests above; true when adopted. */
+      const learnAmplitude = (withT: boolean): boolean => {
+        const o = { temp_C: withT ? bT : null, tempMinSpan_K: minSpan, overlap };
+        const af = fitAmplitudeSlope(bA, bp, bs, o);
+        // the same windows against a drift, straight and curved
+        const drift = Math.min(driftChi2(bt, bp, bs, withT ? bT : null, 1), driftChi2(bt, bp, bs, withT ? bT : null, 2));
+        // re-excited: some window's amplitude is 10 % above the lowest before it
+        let low = Infinity, rose = false;
+        for (const a of bA) { if (a > 1.1 * low) { rose = true; break; } low = Math.min(low, a); }
+        const ok = rose && af !== null && Number.isFinite(drift)
+          && af.amplitude_max_rad - af.amplitude_min_rad >= ampMinSpan * af.amplitude_ref_rad
+          && Math.abs(af.slope_s_per_rad) >= SIGNIFICANCE_Z * af.slope_sigma_s_per_rad
+          && af.chi2 <= drift - 9 * overlap;
+        if (!ok) {
+          ampSlope = 0; ampSlopeSigma = 0; ampLearned = false;
+          return false;
+        }
+        ampSlope = af.slope_s_per_rad;
+        ampSlopeSigma = af.slope_sigma_s_per_rad;
+        ampLearned = true;
+        if (af.temperature_coefficient_s_per_K !== null) {
+          coef = af.temperature_coefficient_s_per_K / pRef;
+          coefSigma = af.temperature_coefficient_sigma_s_per_K! / pRef;
+          coefFitted = true;
+        }
+        return true;
+      };
       return { next: onWindow };
     });
+}
+
+/** χ² of the periods about a polynomial drift in time of the given order (plus the temperature term); Infinity when it cannot be fitted. */
+function driftChi2(t: number[], p: number[], s: number[], temp: number[] | null, order: number): number {
+  const n = t.length, cols = 1 + order + (temp ? 1 : 0);
+  const t0 = t[0], span = Math.max(t[n - 1] - t0, 1);
+  let tm = 0;
+  if (temp) tm = temp.reduce((a, b) => a + b, 0) / n;
+  const X = new Float64Array(n * cols);
+  for (let i = 0; i < n; i++) {
+    const u = (t[i] - t0) / span;
+    for (let k = 0; k <= order; k++) X[i * cols + k] = u ** k;
+    if (temp) X[i * cols + order + 1] = temp[i] - tm;
+  }
+  const f = weightedLeastSquares(X, cols, p.map((x) => x - p[0]), s.map((x) => (Number.isFinite(x) && x > 0 ? 1 / (x * x) : 0)));
+  return f ? f.chi2 : Infinity;
 }
 
 function fmtPpm(rel: number): string {

@@ -21,8 +21,10 @@ import { haveSocat, startPtyPair } from '../../drivers/pty-pair.js';
 import { recordRun } from './record.js';
 import { RunSession, type StoredEvent } from './run-session.js';
 import { Acquisition } from './acquisition.js';
-import { makeLiveSink } from './live-sink.js';
+import { amplitudePriorFor, makeLiveSink } from './live-sink.js';
 import { buildSummary, type ShowSummary } from '../summaries/show-summary.js';
+import { buildComparison, type Comparison } from '../summaries/compare-summary.js';
+import { renderComparison } from '../summaries/compare-text.js';
 import { renderReport } from '../report/html-report.js';
 
 export interface DemoOptions {
@@ -41,6 +43,11 @@ export interface DemoResult {
   reportPath: string;
   mode: 'pty' | 'in-process';
   alerts: StoredEvent[];
+  /** the source masses' two positions against each other (`fibrewatch compare`), and the same for people */
+  comparison: Comparison;
+  comparisonText: string;
+  /** where the comparison starts, s since the run's start (the `--from-s` of `fibrewatch compare`) */
+  compareFrom_s: number;
 }
 
 const BIN = fileURLToPath(new URL('../../../bin/fibrewatch.js', import.meta.url));
@@ -72,6 +79,8 @@ export async function runDemo(opts: DemoOptions): Promise<DemoResult> {
   let mode: 'pty' | 'in-process' = opts.inProcess || !haveSocat() ? 'in-process' : 'pty';
   let runId: number;
   try {
+    // the demo's store is fresh, so there is none yet; kept so the demo runs what `record` runs
+    const amplitudePrior = await amplitudePriorFor(db, station, log);
     if (mode === 'pty') {
       const dir = join(out, 'pty');
       mkdirSync(dir, { recursive: true });
@@ -95,7 +104,7 @@ export async function runDemo(opts: DemoOptions): Promise<DemoResult> {
           source: 'simulator',
           stopSignal: stop,
           onEvent,
-          makeSink: (s) => { session = s; return makeLiveSink(station, s, { dispatcher: null }); },
+          makeSink: (s) => { session = s; return makeLiveSink(station, s, { dispatcher: null, amplitudePrior }); },
           log,
         });
       } finally {
@@ -106,7 +115,7 @@ export async function runDemo(opts: DemoOptions): Promise<DemoResult> {
     } else {
       log(`demo: socat not found${opts.inProcess ? ' (or --in-process given)' : ''}: feeding the simulator's bytes to the decoder in-process (no pseudo-terminal)`);
       const session = new RunSession(db, station, { source: 'simulator', sourcePath: 'in-process', onEvent });
-      const acq = new Acquisition(station, session, makeLiveSink(station, session, { dispatcher: null }));
+      const acq = new Acquisition(station, session, makeLiveSink(station, session, { dispatcher: null, amplitudePrior }));
       const pipe = new PassThrough();
       pipe.on('data', (chunk: Buffer) => acq.bytes(chunk, Date.now()));
       await runSimulator({ scenario, out: pipe, speed, seed: opts.seed ?? 7 });
@@ -120,9 +129,12 @@ export async function runDemo(opts: DemoOptions): Promise<DemoResult> {
     if (run.ended_at_ms !== null) updateRunStartedAt(db, runId, Date.now() - (run.ended_at_ms - run.started_at_ms));
     const store = sqliteReadStore(db, dbPath);
     const summary = await buildSummary(store, runId);
+    // the source masses move in the second half: compare their positions there (the first half has the shield and the knock)
+    const comparison = await buildComparison(store, runId, { from_s: story.switching_from_s });
+    const comparisonText = renderComparison(comparison);
     const reportPath = join(out, 'report.html');
-    writeFileSync(reportPath, await renderReport(store, runId));
-    return { summary, dbPath, reportPath, mode, alerts };
+    writeFileSync(reportPath, await renderReport(store, runId, { compare: { from_s: story.switching_from_s } }));
+    return { summary, dbPath, reportPath, mode, alerts, comparison, comparisonText, compareFrom_s: story.switching_from_s };
   } finally {
     db.close();
   }

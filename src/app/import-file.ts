@@ -11,7 +11,7 @@ import type { Station } from '../config/station.js';
 import { replayFile } from '../../drivers/replay.js';
 import { RunSession, type StoredEvent } from './run-session.js';
 import { Acquisition } from './acquisition.js';
-import { makeLiveSink } from './live-sink.js';
+import { amplitudePriorFor, makeLiveSink } from './live-sink.js';
 import { isStoreFull } from './store-fault.js';
 import { RuntimeError } from '../domain/errors.js';
 
@@ -45,8 +45,9 @@ class Stop extends Error {
 export async function importFile(db: Database.Database, station: Station, path: string, opts: ImportOptions = {}): Promise<{ runId: number; samples: number; badRecords: number }> {
   // a provisional start keeps event times sensible until the duration is known
   const provisional = opts.startedAt_ms ?? Date.now();
+  const amplitudePrior = await amplitudePriorFor(db, station, opts.log);
   const session = new RunSession(db, station, { source: 'file', sourcePath: path, startedAt_ms: provisional, onEvent: opts.onEvent });
-  const acq = new Acquisition(station, session, makeLiveSink(station, session, { live: false, log: opts.log }));
+  const acq = new Acquisition(station, session, makeLiveSink(station, session, { live: false, log: opts.log, amplitudePrior }));
   let signal: string | undefined;
   const handlers = SIGNALS.map((sig) => [sig, () => { signal ??= sig; }] as const);
   if (opts.signals ?? true) for (const [sig, h] of handlers) process.on(sig, h);

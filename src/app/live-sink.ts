@@ -15,6 +15,7 @@ import { Subject, config, merge, type Subscription } from 'rxjs';
 import type { AngleBlock } from '../domain/block.js';
 import type { Incident } from '../domain/events.js';
 import type { Station } from '../config/station.js';
+import type Database from 'better-sqlite3';
 import { analysisPipeline } from '../../pipelines/pipeline.js';
 import { watchEquilibrium } from '../../pipelines/watch/watch-equilibrium.js';
 import { watchPeriod } from '../../pipelines/watch/watch-period.js';
@@ -23,6 +24,8 @@ import { watchSaturation } from '../../pipelines/watch/watch-saturation.js';
 import { watchNoData } from '../../pipelines/watch/watch-no-data.js';
 import { superviseWatcher } from '../../pipelines/watch/supervise-watcher.js';
 import { faultMessage } from '../../pipelines/restart-on-fault.js';
+import { sqliteReadStore } from '../../db/read-store.js';
+import { fibreSlopePrior } from '../summaries/amplitude-dependence.js';
 import { createDispatcher, type AlertDispatcher } from '../alerts/alert-dispatcher.js';
 import type { BlockSink } from './acquisition.js';
 import type { RunSession } from './run-session.js';
@@ -34,6 +37,8 @@ export interface LiveSinkOptions {
   /** alert delivery (default: from the station's alerts block) */
   dispatcher?: AlertDispatcher | null;
   log?: (line: string) => void;
+  /** the fibre's known period–amplitude slope (src/summaries/amplitude-dependence.ts fibreSlopePrior), for the period watcher */
+  amplitudePrior?: { slope_s_per_rad: number; sigma_s_per_rad: number };
 }
 
 /** Handlers of the live sinks now running, told of errors that escaped the streams. */
@@ -91,7 +96,10 @@ export function makeLiveSink(station: Station, session: RunSession, opts: LiveSi
   const overlap = a.window_periods / a.step_periods;
   const watchers$ = merge(
     p.windows$.pipe(superviseWatcher('watch-equilibrium', () => watchEquilibrium({ threshold_rad_per_hour: al.equilibrium_rate_rad_per_hour, horizon_h: al.horizon_h, overlap }))),
-    p.windows$.pipe(superviseWatcher('watch-period', () => watchPeriod({ periodChange_ppm: al.period_change_ppm }))),
+    p.windows$.pipe(superviseWatcher('watch-period', () => watchPeriod({
+      periodChange_ppm: al.period_change_ppm, overlap,
+      amplitudeSlope_s_per_rad: opts.amplitudePrior?.slope_s_per_rad, amplitudeSlopeSigma_s_per_rad: opts.amplitudePrior?.sigma_s_per_rad,
+    }))),
     p.windows$.pipe(superviseWatcher('watch-amplitude', () => watchAmplitude({ min_rad: al.amplitude_min_rad, limit_rad: lim ? al.twist_fraction * lim.theta_max_rad : undefined }))),
     p.cleaned$.pipe(superviseWatcher('watch-saturation', () => watchSaturation({}))),
     ...(opts.live === false ? [] : [blocks$.pipe(superviseWatcher('watch-no-data', () => watchNoData({ noData_s: al.no_data_s })))]),
@@ -138,4 +146,21 @@ export function makeLiveSink(station: Station, session: RunSession, opts: LiveSi
  */
 function runTimeIncident(inc: Incident): Incident & { runTime: true } {
   return { ...inc, runTime: true };
+}
+
+/**
+ * The fibre's period–amplitude slope from its earlier runs in this store, for
+ * `amplitudePrior`; said on the log when there is one. Never fails a start: a
+ * store that cannot answer gives none.
+ */
+export async function amplitudePriorFor(db: Database.Database, station: Station, log?: (line: string) => void): Promise<LiveSinkOptions['amplitudePrior']> {
+  try {
+    // the store is shared with the recorder: read through it, never close it here
+    const p = await fibreSlopePrior(sqliteReadStore(db, 'station store'), station.fibre.name);
+    if (p) log?.(`period watcher: the fibre's period–amplitude slope ${p.slope_s_per_rad.toPrecision(3)} ± ${p.sigma_s_per_rad.toPrecision(2)} s/rad, from run ${p.run}`);
+    return p;
+  } catch (e) {
+    log?.(`period watcher: no amplitude slope from earlier runs (${faultMessage(e)})`);
+    return undefined;
+  }
 }

@@ -17,6 +17,8 @@ import { Acquisition, type BlockSink } from './acquisition.js';
 import { recorderAlive } from './recorder-liveness.js';
 import { isStoreFull } from './store-fault.js';
 import { RuntimeError } from '../domain/errors.js';
+import { SyncFollower } from './sync-follower.js';
+import { archiveLabel } from '../../db/pg/archive-url.js';
 
 export interface RecordOptions {
   device: string;
@@ -29,7 +31,16 @@ export interface RecordOptions {
   stopSignal?: Promise<unknown>;
   /** what to call the source in the store */
   source?: 'device' | 'simulator';
+  /**
+   * `record --archive`: push the store to this lab archive continuously from a
+   * worker thread (src/app/sync-follower.ts); `dbPath` is the store's file,
+   * which the worker opens on a connection of its own
+   */
+  archive?: { url: string; dbPath: string; poll_ms?: number; retryMax_s?: number };
 }
+
+/** How long the archive follower gets for its last pass when the recording ends, ms. */
+const ARCHIVE_FINISH_MS = 15_000;
 
 const SIGNALS = ['SIGINT', 'SIGTERM', 'SIGHUP'] as const;
 
@@ -56,6 +67,18 @@ export async function recordRun(db: Database.Database, station: Station, opts: R
     offSignals();
     throw e;
   }
+
+  // the archive follows from its own thread; nothing here ever waits for it until the run is closed
+  let follower: SyncFollower | undefined;
+  if (opts.archive) {
+    follower = SyncFollower.start({ ...opts.archive, log });
+    log(`pushing to the archive ${archiveLabel(opts.archive.url)} in the background`);
+  }
+  const finishArchive = async (): Promise<void> => {
+    if (!follower) return;
+    const inTime = await follower.finish(ARCHIVE_FINISH_MS);
+    if (!inTime) log(`the archive did not take the end of run ${session.runId} within ${ARCHIVE_FINISH_MS / 1000} s: \`fibrewatch sync\` pushes the rest later`);
+  };
 
   // the port opens while the device may be mid-line: the first line is dropped as torn, and a
   // partial line left when the line ends is torn too
@@ -95,6 +118,7 @@ export async function recordRun(db: Database.Database, station: Station, opts: R
     offSignals();
     await acq.end().catch(() => {});
     session.close('interrupted');
+    await finishArchive();
     if (e instanceof SerialTransportError) throw new RuntimeError(e.message);
     throw e;
   }
@@ -108,14 +132,15 @@ export async function recordRun(db: Database.Database, station: Station, opts: R
   clearInterval(tick);
   clearInterval(ckpt);
   await sup.stop();
-  if (stop.kind === 'store-fault') return closeAfterStoreFault(session, acq, stop.error);
+  if (stop.kind === 'store-fault') return closeAfterStoreFault(session, acq, stop.error).finally(finishArchive);
   try {
     await acq.end();
     session.close(stop.kind === 'gave-up' ? 'interrupted' : 'complete');
   } catch (e) {
-    return closeAfterStoreFault(session, acq, e);
+    return closeAfterStoreFault(session, acq, e).finally(finishArchive);
   }
   log(`run ${session.runId} closed (${stop.why}): ${session.samples} samples`);
+  await finishArchive();
   return session.runId;
 }
 

@@ -12,6 +12,7 @@ import { createRun, endRun, heartbeat, setRunTimeBase, updateRunStartedAt } from
 import { SampleWriter } from '../../db/sample-writer.js';
 import { insertEvents } from '../../db/events-store.js';
 import { insertWindows } from '../../db/windows-store.js';
+import { holdReserve, type SpaceReserve } from '../../db/space-reserve.js';
 import { thisRecorder } from './recorder-liveness.js';
 
 export interface StoredEvent {
@@ -73,6 +74,8 @@ export class RunSession {
   private lastBeat_ms = Date.now();
   /** a transport gap waiting for the sample-time gap of the same outage (which knows the samples lost) */
   private heldGap: { event: StoredEvent; at_ms: number } | undefined;
+  /** room kept to close the run on a full disk */
+  private readonly reserve: SpaceReserve;
 
   constructor(private readonly db: Database.Database, private readonly station: Station, private readonly opts: RunSessionOptions) {
     this.startedAt_ms = opts.startedAt_ms;
@@ -89,6 +92,7 @@ export class RunSession {
     });
     this.writer = new SampleWriter(db, this.runId, { maxLatency_ms: opts.maxLatency_ms ?? 500 });
     this.raw = rawChannelsToStore(station);
+    this.reserve = holdReserve(db.name, this.runId);
   }
 
   /** Seconds since the run's start of the last stored sample. */
@@ -247,7 +251,11 @@ export class RunSession {
     this.closed = true;
     this.flush();
     const end = (this.startedAt_ms ?? Date.now()) + this.lastT_s * 1000;
-    endRun(this.db, this.runId, status, end);
+    try {
+      endRun(this.db, this.runId, status, end);
+    } finally {
+      this.reserve.release();
+    }
   }
 
   /**
@@ -273,14 +281,22 @@ export class RunSession {
     const e = inc && this.eventAt(inc, last_s, lost);
     let eventStored = false;
     let closed = false;
-    try {
-      this.db.transaction(() => {
-        if (e) insertEvents(this.db, this.runId, [e]);
-        endRun(this.db, this.runId, 'interrupted', end);
-      }).immediate();
-      eventStored = e !== undefined;
-      closed = true;
-    } catch {
+    const closing = () => this.db.transaction(() => {
+      if (e) insertEvents(this.db, this.runId, [e]);
+      endRun(this.db, this.runId, 'interrupted', end);
+    }).immediate();
+    // first as things are, then with the reserve given back, then the end alone
+    for (const attempt of [() => true, () => this.reserve.release()]) {
+      if (closed || !attempt()) continue;
+      try {
+        closing();
+        eventStored = e !== undefined;
+        closed = true;
+      } catch {
+        // no room yet
+      }
+    }
+    if (!closed) {
       try {
         endRun(this.db, this.runId, 'interrupted', end);
         closed = true;
@@ -288,6 +304,7 @@ export class RunSession {
         // nothing fits any more: the next `record` marks the run interrupted (it looks crashed)
       }
     }
+    this.reserve.release();
     if (e && eventStored) this.opts.onEvent?.(e);
     return { samplesStored: stored, samplesLost: lost, eventStored, closed };
   }

@@ -9,7 +9,7 @@ import { RuntimeError, UsageError } from '../domain/errors.js';
 import { safeText } from '../display/safe-text.js';
 
 const dbOption = () =>
-  new Option('--db <path>', 'SQLite store (default $FIBREWATCH_DB, else ./fibrewatch.db)');
+  new Option('--db <path>', 'SQLite store, or for reading commands the lab archive\'s postgres:// URL (default $FIBREWATCH_DB, else ./fibrewatch.db)');
 
 function positiveNumber(flag: string) {
   return (v: string) => {
@@ -71,6 +71,7 @@ export function buildProgram(): Command {
     .addOption(dbOption())
     .option('--device <path>', 'override input.device')
     .option('--wait-for-device', 'if the device is missing at start, keep retrying instead of exiting')
+    .option('--archive <url>', 'also push the store to this lab archive (postgres://…) continuously, in the background')
     .action(lazy('record', 'recordCommand'));
 
   p.command('import')
@@ -127,6 +128,22 @@ export function buildProgram(): Command {
     .option('--json', 'one JSON object')
     .action(lazy('noise', 'noiseCommand'));
 
+  onRun('compare', 'each configuration of a run (state channel, marks) against the others: Δθ, torque, Δperiod, with one drift model')
+    .option('--settle-periods <n>', 'leave out windows starting less than this many periods after a change (default 3)')
+    .option('--from-s <s>', 'compare only from here, s since the run\'s start')
+    .option('--to-s <s>', 'compare only up to here (exclusive), s since the run\'s start')
+    .option('--json', 'one JSON object')
+    .action(lazy('compare', 'compareCommand'));
+
+  p.command('mark')
+    .description('note a configuration change of a run (during or after it) as a mark event')
+    .argument('<run>', 'run number', runArg)
+    .argument('<label>', 'the configuration from here on, e.g. "near"')
+    .option('--at <iso>', 'when the change was made (default now): YYYY-MM-DD or ISO 8601')
+    .addOption(dbOption())
+    .option('--json', 'print the stored mark as JSON')
+    .action(lazy('mark', 'markCommand'));
+
   p.command('fibres')
     .description('fibres known to the store')
     .addOption(dbOption())
@@ -148,7 +165,21 @@ export function buildProgram(): Command {
 
   onRun('report', 'a self-contained HTML report with plots')
     .requiredOption('--out <file>', 'HTML file to write')
+    .option('--compare-from-s <s>', 'compare the configurations only from here, s since the run\'s start (as compare --from-s)')
+    .option('--compare-to-s <s>', 'compare the configurations only up to here (exclusive), as compare --to-s')
     .action(lazy('report', 'reportCommand'));
+
+  p.command('serve')
+    .description('a read-only web dashboard and JSON API over the store, live while record writes it (loopback unless given a token)')
+    .addOption(dbOption())
+    .option('--host <address>', 'address to listen on; anything but loopback needs a token', '127.0.0.1')
+    .option('--port <n>', 'port (0: any free one)', (v: string) => {
+      const x = Number(v);
+      if (!/^\d+$/.test(v) || x > 65535) throw new UsageError(`--port: must be a whole number from 0 to 65535 (got "${v}")`);
+      return x;
+    }, 8177)
+    .option('--token <t>', 'token every request must carry (default $FIBREWATCH_TOKEN); required beyond loopback')
+    .action(lazy('serve', 'serveCommand'));
 
   p.command('check')
     .description('verify a store: SQLite\'s integrity check and every sample chunk\'s checksum (exit 1 when anything is wrong)')
@@ -157,6 +188,16 @@ export function buildProgram(): Command {
     .option('--mark', 'also store a corrupt-chunk event in each run with a bad chunk (needs write access)')
     .option('--json', 'the findings as one JSON object')
     .action(lazy('check', 'checkCommand'));
+
+  p.command('sync')
+    .description('push a station\'s store into the lab archive on PostgreSQL (idempotent, resumable; docs/archive.md)')
+    .addOption(dbOption())
+    .option('--to <url>', 'the archive, postgres://USER@HOST/DATABASE (default $FIBREWATCH_ARCHIVE)')
+    .option('--watch', 'keep pushing as the store grows, through archive outages, until SIGINT/SIGTERM')
+    .option('--init', 'only create or upgrade the archive\'s tables (as the archive\'s owner); no store needed')
+    .option('--batch-mb <mb>', 'sample data per transaction, MB (each one a step a cut-off sync resumes from)', positiveNumber('--batch-mb'), 16)
+    .option('--json', 'what was pushed, as one JSON object (without --watch)')
+    .action(lazy('sync', 'syncCommand'));
 
   p.command('ports')
     .description('serial devices on this machine (prefer the /dev/serial/by-id paths)')

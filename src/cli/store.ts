@@ -3,14 +3,26 @@ import { existsSync } from 'node:fs';
 import type Database from 'better-sqlite3';
 import { explainStoreError, openStore } from '../../db/open.js';
 import { sqliteReadStore, type ReadStore } from '../../db/read-store.js';
-import { RuntimeError } from '../domain/errors.js';
+import { RuntimeError, UsageError } from '../domain/errors.js';
+import { archiveLabel, isArchiveUrl } from '../../db/pg/archive-url.js';
 
 /** The store this command opened last: names the file when a fault surfaces later (a full disk mid-import). */
 let current: string | undefined;
 
-/** The store path: the flag, else $FIBREWATCH_DB, else ./fibrewatch.db. */
-export function dbPath(opt?: string): string {
+/** What --db names: the flag, else $FIBREWATCH_DB, else ./fibrewatch.db — a file, or for reading commands the archive's URL. */
+function dbTarget(opt?: string): string {
   return opt ?? process.env.FIBREWATCH_DB ?? './fibrewatch.db';
+}
+
+/**
+ * The path of a station's SQLite store (the flag, else $FIBREWATCH_DB, else
+ * ./fibrewatch.db). An archive URL here is bad usage, refused with a message
+ * that shows no password: this command works on a station's file.
+ */
+export function dbPath(opt?: string): string {
+  const path = dbTarget(opt);
+  if (isArchiveUrl(path)) throw new UsageError(`--db ${archiveLabel(path)}: this command works on a station's SQLite store, not on the lab archive`);
+  return path;
 }
 
 /** Notes of a read-only open (an upgrade, a copy in memory) are warnings on stderr. */
@@ -31,9 +43,20 @@ export function openForWrite(opt?: string): Database.Database {
   return openStore(path);
 }
 
-/** Open the store for reading through the one interface every reading command uses (db/read-store.ts). */
+/**
+ * Open the store for reading through the one interface every reading command
+ * uses (db/read-store.ts): a station's SQLite file, or the lab archive when
+ * the value is a postgres:// or postgresql:// URL (docs/archive.md).
+ */
 export async function openReadStore(opt?: string): Promise<ReadStore> {
-  return sqliteReadStore(openForQuery(opt), dbPath(opt));
+  const where = dbTarget(opt);
+  if (isArchiveUrl(where)) {
+    current = undefined;
+    // loaded only here: a command on a station's file never loads the PostgreSQL client
+    const { openArchiveReadStore } = await import('../../db/pg/postgres-read-store.js');
+    return openArchiveReadStore(where, { onNote: note });
+  }
+  return sqliteReadStore(openForQuery(opt), where);
 }
 
 /** Run `fn` with a read store, always closing it. */

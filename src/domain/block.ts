@@ -14,6 +14,8 @@ export const FLAG_INVALID = 8; // NaN or otherwise unusable
 export const TIME_ROLES = ['t_s', 't_ms', 't_us'] as const;
 export const VALUE_ROLES = [
   'angle_rad', 'counts', 'a', 'b', 'x_m', 'temp_C',
+  // the apparatus configuration in force, a whole number per sample (a change starts a segment: `compare`)
+  'state',
   'aux1', 'aux2', 'aux3', 'aux4', 'aux5', 'aux6', 'aux7', 'aux8',
 ] as const;
 export type TimeRole = (typeof TIME_ROLES)[number];

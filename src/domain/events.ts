@@ -13,6 +13,8 @@ export const EVENT_KINDS = [
   'internal-error', 'watch-error',
   // a stored sample chunk failed its checksum or did not decode (fibrewatch check --mark); its samples read as invalid
   'corrupt-chunk',
+  // a configuration change noted by hand (fibrewatch mark); it starts a segment for `compare`
+  'mark',
 ] as const;
 export type EventKind = (typeof EVENT_KINDS)[number];
 

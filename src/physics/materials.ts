@@ -14,6 +14,16 @@ export interface Sourced {
   source: string;
 }
 
+/**
+ * The span of G that handbooks give for one material as it is sold (one alloy, its tempers and
+ * wire sizes), Pa: a fitted G far outside it says that an input is wrong, not the fibre unusual.
+ */
+export interface SourcedRange {
+  lo_Pa: number;
+  hi_Pa: number;
+  source: string;
+}
+
 /** Tensile strength at a given wire diameter. */
 export interface StrengthPoint {
   diameter_m: number;
@@ -29,6 +39,8 @@ export interface Material {
   designation: string;
   /** shear modulus G, Pa */
   shearModulus: Sourced;
+  /** the handbook span of G (contains shearModulus.value) */
+  shearModulusRange: SourcedRange;
   /** Young's modulus E, Pa, where the source gives it */
   youngsModulus?: Sourced;
   /**
@@ -52,10 +64,13 @@ const GPa = 1e9;
 export const MATERIALS: readonly Material[] = [
   {
     name: 'music wire',
-    aliases: ['music wire', 'piano wire', 'steel', 'spring steel', 'astm a228', 'a228', 'music-wire', 'piano-wire'],
+    // not "steel": a stainless fibre is 10 % softer (see AMBIGUOUS below)
+    aliases: ['music wire', 'piano wire', 'astm a228', 'a228', 'music-wire', 'piano-wire'],
     designation: 'ASTM A228',
     // ODOP_US: gg = 11500 ksi (SMI Handbook of Spring Design value 11.5 Mpsi)
     shearModulus: { value: 79.29 * GPa, source: 'ODOP_US' },
+    // 11.5 Mpsi (ODOP_US) to 12.0 Mpsi, the thinnest wire in Shigley's table by diameter (MEMORY_SHIGLEY, from memory)
+    shearModulusRange: { lo_Pa: 79.29 * GPa, hi_Pa: 82.74 * GPa, source: 'ODOP_US (low end); MEMORY_SHIGLEY, from memory (high end)' },
     youngsModulus: { value: 206.8 * GPa, source: 'ODOP_US' },
     tensileStrength: {
       points: [
@@ -74,6 +89,8 @@ export const MATERIALS: readonly Material[] = [
     aliases: ['tungsten', 'w', 'wolfram'],
     designation: 'W',
     shearModulus: { value: 161 * GPa, source: 'PYMATGEN (MATMAKE_W gives 160.6 GPa citing the CRC Handbook)' },
+    // drawn wire is textured: a few per cent either side of the element's value (from memory)
+    shearModulusRange: { lo_Pa: 150 * GPa, hi_Pa: 165 * GPa, source: 'PYMATGEN, MATMAKE_W (160.6–161 GPa); the span for drawn wire from memory' },
     youngsModulus: { value: 411 * GPa, source: 'PYMATGEN' },
     tensileStrength: {
       points: [{ diameter_m: 5e-5, value_Pa: 3000 * MPa }],
@@ -88,6 +105,7 @@ export const MATERIALS: readonly Material[] = [
     aliases: ['fused silica', 'silica', 'fused quartz', 'quartz', 'sio2', 'fused-silica'],
     designation: 'SiO2 glass',
     shearModulus: { value: 31 * GPa, source: 'MAKEITFROM_SIO2' },
+    shearModulusRange: { lo_Pa: 30 * GPa, hi_Pa: 32 * GPa, source: 'MAKEITFROM_SIO2 (31 GPa); 31.4 GPa for Corning 7980 class glass from memory (MEMORY); span from memory' },
     youngsModulus: { value: 73 * GPa, source: 'MAKEITFROM_SIO2' },
     tensileStrength: {
       points: [{ diameter_m: 1e-4, value_Pa: 5500 * MPa }],
@@ -103,6 +121,8 @@ export const MATERIALS: readonly Material[] = [
     aliases: ['beryllium copper', 'becu', 'cube2', 'c17200', 'berylium copper', 'beryllium-copper', 'astm b197'],
     designation: 'ASTM B197 (CuBe2/C17200)',
     shearModulus: { value: 44.82 * GPa, source: 'ODOP_US (BOYNE gives 47 GPa for CB101)' },
+    // the aged tempers run higher; 50 GPa is the top of what is commonly quoted (from memory)
+    shearModulusRange: { lo_Pa: 44.82 * GPa, hi_Pa: 50 * GPa, source: 'ODOP_US (44.82 GPa), BOYNE (47 GPa); 50 GPa from memory' },
     youngsModulus: { value: 127.6 * GPa, source: 'ODOP_US' },
     tensileStrength: {
       points: [
@@ -118,6 +138,7 @@ export const MATERIALS: readonly Material[] = [
     aliases: ['phosphor bronze', 'phosphor-bronze', 'cusn6', 'cusn8', 'astm b159', 'bronze'],
     designation: 'ASTM B159 (CuSn6/CuSn8)',
     shearModulus: { value: 43.09 * GPa, source: 'ODOP_US' },
+    shearModulusRange: { lo_Pa: 41 * GPa, hi_Pa: 44 * GPa, source: 'ODOP_US (43.09 GPa); 41–44 GPa commonly quoted, from memory' },
     youngsModulus: { value: 103.4 * GPa, source: 'ODOP_US' },
     tensileStrength: {
       points: [
@@ -133,6 +154,7 @@ export const MATERIALS: readonly Material[] = [
     aliases: ['ti-6al-4v', 'ti6al4v', 'ti64', 'titanium', 'grade 5 titanium', 'titanium grade 5'],
     designation: 'Ti-6Al-4V (Grade 5) STA bar',
     shearModulus: { value: 44 * GPa, source: 'MATWEB_MTP645' },
+    shearModulusRange: { lo_Pa: 40 * GPa, hi_Pa: 45 * GPa, source: 'MATWEB_MTP645 (44 GPa); 40–45 GPa across tempers from memory' },
     youngsModulus: { value: 114 * GPa, source: 'MATWEB_MTP645' },
     tensileStrength: { points: [{ diameter_m: 0.01, value_Pa: 1035 * MPa }], source: 'MATWEB_MTP645', note: 'bar stock, solution treated and aged' },
     density: { value: 4430, source: 'from memory' },
@@ -142,6 +164,7 @@ export const MATERIALS: readonly Material[] = [
     aliases: ['beta-c titanium', 'beta-c', 'beta c', 'ti-3al-8v-6cr-4mo-4zr', 'ams 4917'],
     designation: 'Beta-C (Ti-3Al-8V-6Cr-4Mo-4Zr; AMS 4917)',
     shearModulus: { value: 42.06 * GPa, source: 'ODOP_US' },
+    shearModulusRange: { lo_Pa: 40 * GPa, hi_Pa: 43 * GPa, source: 'ODOP_US (42.06 GPa); span from memory' },
     youngsModulus: { value: 113.8 * GPa, source: 'ODOP_US' },
     tensileStrength: {
       points: [
@@ -151,7 +174,35 @@ export const MATERIALS: readonly Material[] = [
       source: 'ODOP_US',
     },
   },
+  {
+    name: 'stainless steel',
+    aliases: ['stainless steel', 'stainless', 'stainless steel 302', 'type 302', '302', 'ss302', '302 stainless', 'astm a313', 'a313', 'stainless-steel'],
+    designation: 'Type 302 spring wire (ASTM A313)',
+    // ODOP_US: gg = 10000 ksi for Types 302 and 316, 11000 ksi for 17-7 PH (condition CH)
+    shearModulus: { value: 68.95 * GPa, source: 'ODOP_US (Type 302)' },
+    shearModulusRange: { lo_Pa: 68.95 * GPa, hi_Pa: 75.84 * GPa, source: 'ODOP_US: Types 302/316 (10.0 Mpsi) to 17-7 PH (11.0 Mpsi)' },
+    youngsModulus: { value: 193.1 * GPa, source: 'ODOP_US' },
+    tensileStrength: {
+      points: [
+        { diameter_m: 0.01 * inch, value_Pa: 2275 * MPa },
+        { diameter_m: 0.4 * inch, value_Pa: 1000 * MPa },
+      ],
+      source: 'ODOP_US',
+      note: 't010 = 330 ksi, t400 = 145 ksi (Type 302); log-log interpolation between them',
+    },
+    density: { value: 7920, source: 'ODOP_US (0.286 lb/in³)' },
+  },
 ];
+
+/**
+ * Names that do not say which material is meant: "steel" is music wire (G ≈ 79–83 GPa) or stainless
+ * (≈ 69–76 GPa), 10 % apart — more than a careful measurement's error — so it is not looked up.
+ */
+const AMBIGUOUS: Readonly<Record<string, readonly string[]>> = {
+  steel: ['music wire', 'stainless steel'],
+  'spring steel': ['music wire', 'stainless steel'],
+  'steel wire': ['music wire', 'stainless steel'],
+};
 
 const norm = (s: string): string => s.trim().toLowerCase().replace(/[\s_]+/g, ' ');
 
@@ -165,6 +216,23 @@ export function lookupMaterial(name: string): Material | undefined {
     }
   }
   return undefined;
+}
+
+/** The materials a name could mean when it names none of them alone ("steel"); undefined for any other name. */
+export function ambiguousMaterial(name: string): readonly string[] | undefined {
+  const n = norm(name);
+  return AMBIGUOUS[n] ?? AMBIGUOUS[n.replace(/ (fibre|fiber)$/, '')];
+}
+
+/**
+ * How far G lies outside the material's handbook span, relative to the nearer end:
+ * G/hi − 1 above it (> 0), G/lo − 1 below it (< 0), 0 inside.
+ */
+export function shearModulusDeviation(material: Material, shearModulus_Pa: number): number {
+  const r = material.shearModulusRange;
+  if (shearModulus_Pa > r.hi_Pa) return shearModulus_Pa / r.hi_Pa - 1;
+  if (shearModulus_Pa < r.lo_Pa) return shearModulus_Pa / r.lo_Pa - 1;
+  return 0;
 }
 
 /** Names of all materials in the table (for error messages and listings). */

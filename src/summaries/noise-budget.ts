@@ -26,7 +26,7 @@ import { FIT_STATUS } from '../analysis/fit-status.js';
 import { median } from '../analysis/median.js';
 import { ResidualSpectrum } from '../analysis/residual-spectrum.js';
 import { decayRate, SwingModel, type SwingWindow } from '../analysis/swing-model.js';
-import { torqueNoise } from '../analysis/torque-noise.js';
+import { torqueNoise, type TorqueNoise } from '../analysis/torque-noise.js';
 import { windowStability, type StabilityWindow, type WindowStability } from '../analysis/window-stability.js';
 
 /** Temperature used when neither a temp_C channel nor the station gives one, K. */
@@ -43,8 +43,11 @@ export const MIN_SEGMENT = 64;
 /** Window statuses that mean "no swing above the noise": their samples need nothing removed (a balance at rest). */
 const NO_SWING: ReadonlySet<string> = new Set([FIT_STATUS.noOscillation, FIT_STATUS.amplitudeBelowNoise]);
 
-/** `noise --json`: field names fixed by docs/commands.md. */
-export interface NoiseBudget {
+/**
+ * `noise --json` (field names fixed by docs/commands.md): the torque-noise arrays and figures
+ * (src/analysis/torque-noise.ts) with the span, the assumptions and the Allan deviations.
+ */
+export interface NoiseBudget extends TorqueNoise {
   run: number;
   /** the span analysed, s since the run's start: first sample used, and one interval after the last */
   from_s: number | null;
@@ -55,13 +58,6 @@ export interface NoiseBudget {
   resonance_Hz: number | null;
   q: number | null;
   kappa_Nm_per_rad: number | null;
-  frequency_Hz: number[];
-  angle_asd_rad_per_rtHz: number[];
-  torque_asd_Nm_per_rtHz: number[] | null;
-  thermal_torque_asd_Nm_per_rtHz: number[] | null;
-  readout_asd_rad_per_rtHz: number | null;
-  band_Hz: [number, number] | null;
-  excess_over_thermal: number | null;
   allan: { equilibrium: WindowStability['equilibrium']; period: WindowStability['period'] };
 }
 

@@ -1,11 +1,17 @@
 /** The `show` summary of one run, from what the store holds so far. */
 import type { ReadStore } from '../../db/read-store.js';
-import { summariseWindows, type RunSummaryOptions, type SigmaBudget } from '../analysis/run-summary.js';
+import { summariseWindows, type SigmaBudget } from '../analysis/run-summary.js';
 import { RuntimeError } from '../domain/errors.js';
-import { parseStation, type Station } from '../config/station.js';
-import { deriveContextFor, systematicsFor, temperatureFor } from '../config/derive-context.js';
+import { summaryOptionsOf } from './summary-options.js';
 import type { Damping } from '../physics/thermal.js';
 import { noiseHeadline, type NoiseHeadline } from './noise-headline.js';
+import { segmentStoredRun } from './configurations.js';
+import { amplitudeSlopeOf, periodAlertSpans } from './amplitude-dependence.js';
+import { runWarnings, type RunWarning } from './run-warnings.js';
+import { storedStation } from './summary-options.js';
+
+// the station a run was recorded with, as its summaries read it (kept importable from here)
+export { overlapOf, storedStation, summaryOptionsOf } from './summary-options.js';
 
 export interface ShowSummary {
   run: number;
@@ -50,37 +56,27 @@ export interface ShowSummary {
   temperature_K: number | null;
   temperature_source: 'recorded' | 'station' | 'assumed' | null;
   amplitude_rad: number | null;
+  /**
+   * the period's dependence on the swing amplitude, s/rad (anelasticity; 0 for an elastic fibre), from the ok
+   * windows outside configuration changes, one intercept per configuration, the temperature term removed when
+   * temp_C is recorded (then ..._temperature_removed is true); null when it cannot be fitted
+   */
+  period_amplitude_slope_s_per_rad: number | null;
+  period_amplitude_slope_sigma_s_per_rad: number | null;
+  period_amplitude_slope_temperature_removed: boolean;
+  /** sanity checks of the derived constants against the station file (src/summaries/run-warnings.ts) */
+  warnings: RunWarning[];
   /** the noise headline from the windows and the thermal limits (the full budget: `noise RUN`) */
   noise: NoiseHeadline;
   events: number;
   alerts: { kind: string; state: string | null; t: string; message: string }[];
-}
-
-/** window_periods / step_periods of the station a run was recorded with (4, the default, when unknown). */
-export function overlapOf(stationConfig: unknown): number {
-  const a = (stationConfig as { analysis?: { window_periods?: number; step_periods?: number } } | null)?.analysis;
-  return a && a.window_periods && a.step_periods ? a.window_periods / a.step_periods : 4;
-}
-
-/** The station a run was recorded with, as stored with it; null when there is none or it no longer validates. */
-export function storedStation(stationConfig: unknown): Station | null {
-  if (stationConfig === null || typeof stationConfig !== 'object') return null;
-  try {
-    return parseStation(stationConfig, 'stored station');
-  } catch {
-    return null;
-  }
-}
-
-/** Overlap, nominal context and systematic σ's of a run, from the station stored with it. */
-export function summaryOptionsOf(stationConfig: unknown): RunSummaryOptions & { temperatureAssumed?: boolean } {
-  const st = storedStation(stationConfig);
-  if (!st) return { overlap: overlapOf(stationConfig) };
-  const T = temperatureFor(st);
-  return {
-    overlap: st.analysis.window_periods / st.analysis.step_periods, context: deriveContextFor(st), systematics: systematicsFor(st),
-    temperature_K: T.temperature_K, temperatureAssumed: T.assumed,
-  };
+  /** the run's uid and its number in its station's store (docs/archive.md) */
+  uid: string;
+  station_run: number;
+  /** the lab archive's standing for this run: last sync, last sample it holds, seconds behind (null: never synced) */
+  archive_synced_at: string | null;
+  archive_synced_to_s: number | null;
+  archive_lag_s: number | null;
 }
 
 /** Build the summary; throws RuntimeError when the run does not exist. */
@@ -90,7 +86,10 @@ export async function buildSummary(store: ReadStore, runId: number): Promise<Sho
   const opts = summaryOptionsOf(run.station_config);
   const windows = await store.listWindows(runId);
   const s = summariseWindows(windows, opts);
-  const alerts = latestAlertStates(await store.listEvents(runId));
+  const events = await store.listEvents(runId);
+  const alerts = latestAlertStates(events);
+  const { segmentation } = await segmentStoredRun(store, run, windows, s.period_s);
+  const slope = amplitudeSlopeOf(windows, segmentation, opts.overlap ?? 1, periodAlertSpans(events));
   const out: ShowSummary = {
     run: run.run,
     station: run.station,
@@ -119,12 +118,19 @@ export async function buildSummary(store: ReadStore, runId: number): Promise<Sho
     temperature_K: s.decay_rate_temperature_K,
     temperature_source: s.decay_rate_temperature_K === null ? null : s.decay_rate_temperature_recorded ? 'recorded' : opts.temperatureAssumed ? 'assumed' : 'station',
     amplitude_rad: s.amplitude_rad,
+    period_amplitude_slope_s_per_rad: slope?.slope_s_per_rad ?? null,
+    period_amplitude_slope_sigma_s_per_rad: slope?.slope_sigma_s_per_rad ?? null,
+    period_amplitude_slope_temperature_removed: slope?.temperature_coefficient_s_per_K != null,
+    warnings: runWarnings(storedStation(run.station_config), s, windows),
     noise: noiseHeadline(windows, {
       kappa_Nm_per_rad: s.kappa_Nm_per_rad, q: s.q, inertia_kg_m2: opts.context?.inertia_kg_m2,
       temperature_K: s.decay_rate_temperature_K ?? opts.temperature_K ?? 295, damping: opts.context?.damping ?? 'internal',
     }),
     events: await store.countEvents(runId),
     alerts,
+    uid: run.uid,
+    station_run: run.station_run,
+    ...(await store.archiveState(runId)),
   };
   if (s.kappa_Nm_per_rad !== null) {
     out.kappa_Nm_per_rad = s.kappa_Nm_per_rad;

@@ -24,9 +24,11 @@ const ALLOWED: Record<string, string[]> = {
   pipelines: ['src/domain', 'src/config', 'src/physics', 'src/analysis'],
   'pipelines/watch': ['pipelines', 'src/domain', 'src/config', 'src/physics', 'src/analysis'],
   db: ['src/domain'],
+  'db/pg': ['db', 'src/domain'],
   'src/alerts': ['src/domain', 'src/config'],
   'src/summaries': ['db', 'src/domain', 'src/config', 'src/physics', 'src/analysis', 'src/display'],
   'src/report': ['src/summaries', 'db', 'src/domain', 'src/config', 'src/physics', 'src/analysis', 'src/display'],
+  'src/server': ['src/report', 'src/summaries', 'db', 'src/domain', 'src/config', 'src/physics', 'src/analysis', 'src/display'],
 };
 const TOP = ['src/app', 'src/cli', 'src/cli/commands', 'src/web'];
 

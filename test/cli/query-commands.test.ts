@@ -463,12 +463,14 @@ describe('fibres and fibre', () => {
     expect(h.stdout).toMatch(/G \(GPa\)/);
     // run 3's σ's: κ mostly from the inertia (0.4 %), G from the diameter (4 × 1 %)
     expect(h.stdout).toMatch(/σ mostly from/);
-    expect(h.stdout).toMatch(/2026-03-10T08:00:00Z .* yes\s+κ: inertia, G: diameter\s*$/m);
+    // κ moved (the 1 % step of the scenarios), Q did not
+    expect(h.stdout).toMatch(/2026-03-10T08:00:00Z .* yes\s+no\s+κ: inertia, G: diameter\s*$/m);
+    expect(h.stdout).toMatch(/^run 3: kappa-moved: κ rose by 1\.\d+ % since run 1/m);
   });
 });
 
 describe('report', () => {
-  it('writes a self-contained HTML file with the run number and SVG plots', () => {
+  it('writes a self-contained HTML file with the run number, the charts\' script and their data inlined', () => {
     const out = join(dir, 'r1.html');
     const r = cli('report', '1', '--out', out);
     expect(r.status, r.stderr).toBe(0);
@@ -476,7 +478,11 @@ describe('report', () => {
     const html = readFileSync(out, 'utf8');
     expect(html).toMatch(/^<!doctype html>/i);
     expect(html).toMatch(/run 1\b/i);
-    expect(html).toContain('<svg');
+    // the charts' data (the run's summary and its ok windows) and the client script are in the file
+    const data = JSON.parse(/<script type="application\/json" id="fw-data">(.*?)<\/script>/s.exec(html)![1]);
+    expect(data.summary.run).toBe(1);
+    expect(data.columns.t_mid_s.length).toBe(data.summary.windows_ok);
+    expect(/<script>([\s\S]*?)<\/script>/.exec(html)![1].length).toBeGreaterThan(30_000);
     // nothing fetched from elsewhere: no src/href/url()/@import to any address (SVG's xmlns is a name, not a fetch)
     expect(html).not.toMatch(/\b(src|href)\s*=\s*["']?(https?:)?\/\//i);
     expect(html).not.toMatch(/url\(\s*["']?(https?:)?\/\//i);
@@ -492,6 +498,17 @@ describe('report', () => {
     expect(html).toMatch(/torsion constant κ<\/th><td>\(7\.\d+ ± 0\.0\d+\)e-9 N·m\/rad — σ: inertia 0\.4 % dominates .* · statistical part ±[\d.e-]+ N·m\/rad</);
     expect(html).toMatch(/shear modulus G<\/th><td>[\d.]+ ± [\d.]+ GPa — σ: diameter 4 % dominates/);
     expect(html).toMatch(/corrections<\/th><td>T₀ for internal damping/);
+  });
+
+  it('takes the comparison\'s span as compare does, and bad usage naming the flag', () => {
+    const out = join(dir, 'r1-span.html');
+    expect(cli('report', '1', '--out', out, '--compare-from-s', '600').status).toBe(0);
+    const data = JSON.parse(/<script type="application\/json" id="fw-data">(.*?)<\/script>/s.exec(readFileSync(out, 'utf8'))![1]);
+    // run 1 has one configuration: nothing compared, whatever the span, but the file is whole
+    expect(data.summary.run).toBe(1);
+    const bad = cli('report', '1', '--out', out, '--compare-from-s', '600', '--compare-to-s', '100');
+    expect(bad.status).toBe(2);
+    expect(bad.stderr).toMatch(/--compare-to-s: must be after --compare-from-s/);
   });
 
   it('fails with exit 1 and no stack trace when the file cannot be written', () => {

@@ -26,7 +26,7 @@ describe('migrations', () => {
     expect(schemaVersion(db)).toBe(SCHEMA_VERSION);
     expect(SCHEMA_VERSION).toBe(MIGRATIONS.length);
     const tables = (db.prepare("SELECT name FROM sqlite_master WHERE type = 'table' ORDER BY name").all() as { name: string }[]).map((r) => r.name);
-    expect(tables).toEqual(['events', 'fibres', 'runs', 'sample_chunks', 'stations', 'windows']);
+    expect(tables).toEqual(['archive_sync', 'events', 'fibres', 'runs', 'sample_chunks', 'stations', 'windows']);
     expect(db.pragma('integrity_check', { simple: true })).toBe('ok');
     db.close();
   });

@@ -47,7 +47,10 @@ describe('runs', () => {
     expect(all[1]).toEqual({
       run: a, station: 'bench-a', fibre: 'F1', started_at: '2026-03-10T00:00:00.000Z', ended_at: '2026-03-10T06:00:00.000Z',
       samples: 0, status: 'complete', source: 'device', gaps: 0, windows: 0,
+      uid: expect.stringMatching(/^[0-9a-f]{8}-[0-9a-f]{4}-4[0-9a-f]{3}-[89ab][0-9a-f]{3}-[0-9a-f]{12}$/), station_run: a,
     });
+    // every run its own uid
+    expect(new Set(all.map((r) => r.uid)).size).toBe(all.length);
     expect(all[3].ended_at).toBeNull();
     expect(all[3].status).toBe('recording');
     db.close();

@@ -28,7 +28,7 @@ describe('demo', () => {
     const db = join(out, 'fibrewatch.db');
     expect(existsSync(db)).toBe(true);
     const html = readFileSync(join(out, 'report.html'), 'utf8');
-    expect(html).toContain('<svg');
+    expect(html).toContain('<script type="application/json" id="fw-data">');
     expect(html).not.toMatch(/<(script|link)[^>]+(src|href)="https?:/);
 
     // the store answers the query commands
@@ -40,5 +40,18 @@ describe('demo', () => {
     expect(Math.abs(show.shear_modulus_Pa - 161e9) / 161e9).toBeLessThan(1e-3);
     const events = JSON.parse(runCli(['events', '1', '--db', db, '--json']).stdout) as { kind: string; state: string }[];
     expect(events.some((e) => e.kind === 'equilibrium-drift' && e.state === 'cleared')).toBe(true);
+    // the source masses' two positions, compared over the second half: the story's 5 µrad and +25 ppm
+    // (src/app/demo-story.ts) within 3σ, printed by the demo as well
+    expect(r.stdout).toMatch(/fibrewatch compare 1 --from-s \d+/);
+    expect(r.stdout).toMatch(/^2 − 1\s+5\.\d+ ± /m);
+    expect(r.stdout).toMatch(/fibrewatch serve --db .* then open http:\/\/127\.0\.0\.1:8177\/runs\/1\?compare_from_s=\d+/);
+    const from = /--from-s (\d+)/.exec(r.stdout)![1];
+    const c = JSON.parse(runCli(['compare', '1', '--db', db, '--from-s', from, '--json']).stdout);
+    const d = c.differences[0];
+    expect(Math.abs(d.delta_equilibrium_rad - 5e-6) / d.delta_equilibrium_sigma_rad).toBeLessThan(3);
+    expect(Math.abs(d.delta_period_ppm - 25) / d.delta_period_sigma_ppm).toBeLessThan(3);
+    // the fibre is a little anelastic (1 s/rad) and show says so; nothing in the station file is absurd
+    expect(Math.abs(show.period_amplitude_slope_s_per_rad - 1) / show.period_amplitude_slope_sigma_s_per_rad).toBeLessThan(3);
+    expect(show.warnings).toEqual([]);
   }, 180_000);
 });

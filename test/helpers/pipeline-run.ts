@@ -65,7 +65,8 @@ export async function runPipeline(input: ScenarioInput, opts: PipelineRunOptions
   while (src.remaining > 0) {
     const b = src.next(B);
     const angle = b.channels.angle_rad!;
-    blocks$.next({ n: b.n, t: b.t, angle, flags: new Uint8Array(b.n), channels: {}, clock: 'device', host_ms: 0 });
+    // a recorded temperature goes along, as a station's temp_C column would
+    blocks$.next({ n: b.n, t: b.t, angle, flags: new Uint8Array(b.n), channels: b.channels.temp_C ? { temp_C: b.channels.temp_C } : {}, clock: 'device', host_ms: 0 });
   }
   blocks$.complete();
   return { windows: await out, scenario: sc, truth };

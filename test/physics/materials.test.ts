@@ -1,6 +1,6 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { lookupMaterial, MATERIALS, tensileStrengthAt } from '../../src/physics/materials.js';
+import { ambiguousMaterial, lookupMaterial, MATERIALS, shearModulusDeviation, tensileStrengthAt } from '../../src/physics/materials.js';
 
 // Handbook rows copied with their source ids (fixture; see test/fixtures/materials/SOURCES.md)
 const rows = readFileSync(new URL('../fixtures/materials/fibre_materials.csv', import.meta.url), 'utf8')
@@ -16,8 +16,8 @@ const row = (material: string, property: string, source: string) => {
 
 describe('materials table', () => {
   it('lookup tolerates case and aliases', () => {
-    expect(lookupMaterial('steel')!.name).toBe('music wire');
     expect(lookupMaterial('Music Wire')!.name).toBe('music wire');
+    expect(lookupMaterial('Stainless')!.name).toBe('stainless steel');
     expect(lookupMaterial('piano wire')!.name).toBe('music wire');
     expect(lookupMaterial('W')!.name).toBe('tungsten');
     expect(lookupMaterial('tungsten wire')!.name).toBe('tungsten');
@@ -57,5 +57,42 @@ describe('materials table', () => {
       expect(m.tensileStrength.source.length).toBeGreaterThan(0);
       if (m.dGdT_per_K) expect(m.dGdT_per_K.source).toMatch(/\S/);
     }
+  });
+
+  it('"steel" is not silently music wire: it names two materials 10 % apart', () => {
+    for (const n of ['steel', 'Spring Steel', 'steel wire']) {
+      expect(lookupMaterial(n)).toBeUndefined();
+      expect(ambiguousMaterial(n)).toEqual(['music wire', 'stainless steel']);
+    }
+    expect(ambiguousMaterial('tungsten')).toBeUndefined();
+    // ODOP_US: Type 302 stainless gg = 10000 ksi, 17-7 PH 11000 ksi; music wire 11500 ksi
+    expect(lookupMaterial('stainless steel')!.shearModulus.value).toBeCloseTo(row('stainless steel', 'shear_modulus_G', 'ODOP_US'), -6);
+    expect(tensileStrengthAt(lookupMaterial('302')!, 0.010 * 0.0254)).toBeCloseTo(row('stainless steel', 'tensile_strength_0.010in_(0.254mm)', 'ODOP_US'), -6);
+  });
+
+  it('every material has a handbook span of G that holds its value, with a source', () => {
+    for (const m of MATERIALS) {
+      const r = m.shearModulusRange;
+      expect(r.lo_Pa).toBeLessThanOrEqual(m.shearModulus.value);
+      expect(r.hi_Pa).toBeGreaterThanOrEqual(m.shearModulus.value);
+      expect(r.source).toMatch(/\S/);
+    }
+    // the spans the trade quotes (common practice, no source; the ends of each span are sourced in the table):
+    // music wire ≈ 79–83 GPa, stainless ≈ 69–77 GPa, beryllium copper ≈ 45–50 GPa
+    const span = (n: string) => [lookupMaterial(n)!.shearModulusRange.lo_Pa / 1e9, lookupMaterial(n)!.shearModulusRange.hi_Pa / 1e9];
+    const [mwLo, mwHi] = span('music wire'), [ssLo, ssHi] = span('stainless steel'), [bcLo, bcHi] = span('BeCu');
+    expect(mwLo).toBeGreaterThanOrEqual(79); expect(mwHi).toBeLessThanOrEqual(83);
+    expect(ssLo).toBeGreaterThanOrEqual(68.9); expect(ssHi).toBeLessThanOrEqual(77);
+    expect(bcLo).toBeGreaterThanOrEqual(44.8); expect(bcHi).toBeLessThanOrEqual(50);
+    // the stainless span ends at 17-7 PH's value in the fixture
+    const ph177 = rows.find((x) => x.material === 'stainless steel' && x.designation.startsWith('17-7') && x.property === 'shear_modulus_G')!;
+    expect(ssHi).toBeCloseTo(ph177.value, 6);
+  });
+
+  it('the deviation from the span is relative to its nearer end, and 0 inside', () => {
+    const w = lookupMaterial('tungsten')!;
+    expect(shearModulusDeviation(w, 160e9)).toBe(0);
+    expect(shearModulusDeviation(w, 2 * 165e9)).toBeCloseTo(1, 12);
+    expect(shearModulusDeviation(w, 75e9)).toBeCloseTo(-0.5, 12);
   });
 });

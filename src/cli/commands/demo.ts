@@ -16,6 +16,10 @@ export async function demoCommand(opts: { out: string; hours: number; inProcess?
   process.stdout.write(`\nalerts: ${safeText(story || 'none')}\n`);
   process.stdout.write(`path: ${r.mode === 'pty' ? 'pseudo-terminal + serialport' : 'in-process decoder (no pseudo-terminal)'}; took ${((Date.now() - t0) / 1000).toFixed(0)} s\n`);
   const db = safeText(r.dbPath);
-  process.stdout.write(`store:  ${db}\nreport: ${safeText(r.reportPath)}\n`);
-  process.stdout.write(`look closer:\n  npx fibrewatch windows ${r.summary.run} --db ${db}\n  npx fibrewatch events ${r.summary.run} --db ${db}\n`);
+  const run = r.summary.run;
+  const compare = `npx fibrewatch compare ${run} --from-s ${r.compareFrom_s} --db ${db}`;
+  process.stdout.write(`\nthe source masses' two positions (${compare}):\n${r.comparisonText}`);
+  process.stdout.write(`\nstore:  ${db}\nreport: ${safeText(r.reportPath)}  (one file: open it in a browser)\n`);
+  process.stdout.write(`look closer:\n  npx fibrewatch windows ${run} --db ${db}\n  npx fibrewatch events ${run} --db ${db}\n  npx fibrewatch noise ${run} --db ${db}\n  ${compare}\n`);
+  process.stdout.write(`  npx fibrewatch serve --db ${db}   then open http://127.0.0.1:8177/runs/${run}?compare_from_s=${r.compareFrom_s}\n`);
 }

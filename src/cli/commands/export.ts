@@ -11,7 +11,8 @@ import { RuntimeError } from '../../domain/errors.js';
 import { csv } from '../../display/format.js';
 import { safeText } from '../../display/safe-text.js';
 import { openReadStore } from '../store.js';
-import { WINDOW_COLUMNS, windowRows } from './windows.js';
+import { WINDOW_COLUMNS } from './windows.js';
+import { windowRows } from '../../report/window-rows.js';
 
 /** Columns of an events export, in order (docs/commands.md's event fields, then state and data). */
 const EVENT_COLUMNS = ['t', 't_s', 'kind', 'severity', 'message', 'value', 'threshold', 'state', 'data'];

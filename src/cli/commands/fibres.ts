@@ -40,15 +40,22 @@ export async function fibreCommand(name: string, opts: { db?: string; json?: boo
     if (opts.json) return void process.stdout.write(JSON.stringify(rows, null, 2) + '\n');
     process.stdout.write(`fibre ${safeText(name)}: ${rows.length} run${rows.length === 1 ? '' : 's'}\n`);
     process.stdout.write(table(
-      ['run', 'started (UTC)', 'status', 'period (s)', 'Q', 'κ (N·m/rad)', 'G (GPa)', 'creep (rad/h)', 'κ moved?', 'σ mostly from'],
+      ['run', 'started (UTC)', 'status', 'period (s)', 'Q', 'κ (N·m/rad)', 'G (GPa)', 'creep (rad/h)', 'dT/dA (s/rad)', 'κ moved?', 'Q moved?', 'σ mostly from'],
       rows.map((r) => [
-        String(r.run), isoShort(r.started_at), r.status, withSigma(r.period_s, r.period_sigma_s), fmt(r.q),
+        String(r.run), isoShort(r.started_at), r.status, withSigma(r.period_s, r.period_sigma_s), withSigma(r.q, r.q_sigma),
         withSigma(r.kappa_Nm_per_rad, r.kappa_sigma_Nm_per_rad),
         r.shear_modulus_Pa === null ? '—' : withSigma(r.shear_modulus_Pa / 1e9, (r.shear_modulus_sigma_Pa ?? 0) / 1e9),
         r.equilibrium_rate_rad_per_s === null ? '—' : withSigma(r.equilibrium_rate_rad_per_s * 3600, (r.equilibrium_rate_sigma_rad_per_s ?? 0) * 3600),
+        withSigma(r.period_amplitude_slope_s_per_rad, r.period_amplitude_slope_sigma_s_per_rad),
         r.kappa_moved === null ? '—' : r.kappa_moved ? 'yes' : 'no',
+        r.q_moved === null ? '—' : r.q_moved ? 'yes' : 'no',
         dominance(r),
       ]),
     ));
+    // what moved and why, and each run's warnings, one line each
+    for (const r of rows) {
+      for (const f of r.flags) process.stdout.write(safeText(`run ${r.run}: ${f.kind}: ${f.message}`) + '\n');
+      for (const w of r.warnings) process.stdout.write(safeText(`run ${r.run}: warning: ${w.kind}: ${w.message}`) + '\n');
+    }
   });
 }

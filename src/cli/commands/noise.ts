@@ -1,22 +1,12 @@
 /** `fibrewatch noise RUN [--from-s S] [--to-s S] [--json]`: the balance's noise against its thermal limit. */
-import { UsageError } from '../../domain/errors.js';
 import { duration, fmt, table } from '../../display/format.js';
 import { buildNoiseBudget, type NoiseBudgetReport } from '../../summaries/noise-budget.js';
 import { withReadStore } from '../store.js';
-
-/** A --from-s/--to-s value: a finite number of seconds ≥ 0, or bad usage naming the flag. */
-function seconds(flag: string, v: string | undefined): number | undefined {
-  if (v === undefined) return undefined;
-  const x = Number(v);
-  if (v.trim() === '' || !Number.isFinite(x) || x < 0) throw new UsageError(`${flag}: must be a number of seconds ≥ 0 (got "${v}")`);
-  return x;
-}
+import { spanArgs } from '../span-args.js';
 
 export async function noiseCommand(run: number, opts: { db?: string; json?: boolean; fromS?: string; toS?: string }): Promise<void> {
-  const from_s = seconds('--from-s', opts.fromS);
-  const to_s = seconds('--to-s', opts.toS);
-  if (from_s !== undefined && to_s !== undefined && !(to_s > from_s)) throw new UsageError(`--to-s: must be after --from-s (got ${to_s} ≤ ${from_s})`);
-  const r = await withReadStore(opts.db, (store) => buildNoiseBudget(store, run, { from_s, to_s }));
+  const span = spanArgs('--from-s', opts.fromS, '--to-s', opts.toS);
+  const r = await withReadStore(opts.db, (store) => buildNoiseBudget(store, run, span));
   for (const n of r.notes) process.stderr.write(`fibrewatch: run ${run}: ${n}\n`);
   process.stdout.write(opts.json ? JSON.stringify(r.budget, null, 2) + '\n' : renderNoise(r));
 }

@@ -31,8 +31,12 @@ export function renderSummary(s: ShowSummary): string {
   }
   lines.push(row('corrections', correctionsText(s)));
   if (s.amplitude_rad !== null) lines.push(row('amplitude', `${fmt(s.amplitude_rad)} rad (last window)`));
+  if (s.period_amplitude_slope_s_per_rad !== null) {
+    lines.push(row('period vs swing', `${withSigma(s.period_amplitude_slope_s_per_rad, s.period_amplitude_slope_sigma_s_per_rad, 's/rad')} (anelasticity: 0 for an elastic fibre${s.period_amplitude_slope_temperature_removed ? '; temperature removed' : ''})`));
+  }
   lines.push(...noiseRows(s, row));
   for (const a of s.alerts) lines.push(row('alert', `${a.kind}: ${a.state} at ${isoShort(a.t)} — ${a.message}`));
+  for (const w of s.warnings) lines.push(row('warning', `${w.kind}: ${w.message}`));
   return lines.map(safeText).join('\n') + '\n';
 }
 

@@ -5,14 +5,10 @@ import { listWindows } from '../../../db/windows-store.js';
 import { RuntimeError, UsageError } from '../../domain/errors.js';
 import { csv, table, withSigma, fmt } from '../../display/format.js';
 import { withReadStore } from '../store.js';
+import { windowRows } from '../../report/window-rows.js';
 
 /** Columns of a window row, in order (used for the CSV header when a run has no windows yet). */
 export const WINDOW_COLUMNS: string[] = [...WINDOW_FIELDS, 't_mid'];
-
-/** Window rows as docs/commands.md lists them: the fit fields plus `t_mid` (ISO) and `status`. */
-export function windowRows(ws: WindowResult[], startedAt_ms: number): Record<string, unknown>[] {
-  return ws.map((w) => ({ ...w, t_mid: new Date(startedAt_ms + w.t_mid_s * 1000).toISOString() }));
-}
 
 export async function windowsCommand(run: number, opts: { db?: string; json?: boolean; csv?: boolean }): Promise<void> {
   if (opts.json && opts.csv) throw new UsageError('--json and --csv: choose one');
