@@ -87,6 +87,8 @@ const API_PATHS: [string, string][] = [
   ['samples_day_2000', '/api/runs/1/samples?from_s=259200&to_s=345600&points=2000'],
   ['samples_hour_2000', '/api/runs/1/samples?from_s=300000&to_s=303600&points=2000'],
   ['samples_10min_2000', '/api/runs/1/samples?from_s=300000&to_s=300600&points=2000'],
+  ['amplitude', '/api/runs/1/amplitude'],
+  ['compare', '/api/runs/1/compare'],
   ['fibres', '/api/fibres'],
   ['fibre', '/api/fibres/bench-fibre'],
   ['run_page', '/runs/1'],

@@ -20,7 +20,7 @@ export interface SoakBenchOptions {
 
 /** Run the long soak; returns its figures. */
 export async function benchSoak(opts: SoakBenchOptions = {}): Promise<Record<string, number>> {
-  const r = await runSoak({ duration_s: opts.duration_s ?? 180, replugs: opts.replugs ?? 6, kills: opts.kills ?? 4, seed: 9, log: (l) => process.stdout.write(l + '\n') });
+  const r = await runSoak({ duration_s: opts.duration_s ?? 180, replugs: opts.replugs ?? 10, kills: opts.kills ?? 3, seed: 9, log: (l) => process.stdout.write(l + '\n') });
   // the last recorder lives through every replug; its first fifth is start-up
   const life = r.rss[r.rss.length - 1];
   const end = life[life.length - 1][0];

@@ -32,6 +32,9 @@ export function listFibres(db: Database): FibreListing[] {
 export interface FibreRun {
   run: number;
   station: string;
+  /** the run's station-made identifier, and its number in its station's store (the same as `run` there) */
+  uid: string;
+  station_run: number;
   started_at_ms: number;
   ended_at_ms: number | null;
   status: string;
@@ -42,7 +45,7 @@ export interface FibreRun {
 /** The runs of one fibre (none for an unknown name). */
 export function fibreRuns(db: Database, name: string): FibreRun[] {
   const rows = db.prepare(`
-    SELECT r.id AS run, s.name AS station, r.started_at_ms, r.ended_at_ms, r.status, r.samples, s.config_json
+    SELECT r.id AS run, s.name AS station, r.uid, r.id AS station_run, r.started_at_ms, r.ended_at_ms, r.status, r.samples, s.config_json
     FROM runs r JOIN fibres f ON f.id = r.fibre_id JOIN stations s ON s.id = r.station_id
     WHERE f.name = ? ORDER BY r.started_at_ms, r.id`).all(name) as (Omit<FibreRun, 'station_config'> & { config_json: string | null })[];
   return rows.map(({ config_json, ...r }) => ({ ...r, station_config: config_json ? JSON.parse(config_json) : null }));

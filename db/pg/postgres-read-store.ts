@@ -117,7 +117,7 @@ export function postgresReadStore(pool: pg.Pool, label: string): ReadStore {
     },
     async fibreRuns(name) {
       const rows = await query<Omit<FibreRun, 'station_config'> & { config_json: string | null }>(`
-        SELECT r.id AS run, s.name AS station, r.started_at_ms, r.ended_at_ms, r.status, r.samples, s.config_json
+        SELECT r.id AS run, s.name AS station, r.uid, r.station_run, r.started_at_ms, r.ended_at_ms, r.status, r.samples, s.config_json
         ${RUN_FROM} WHERE f.name = $1 ORDER BY r.started_at_ms, r.id`, [name]);
       return rows.map(({ config_json, ...r }) => ({ ...r, station_config: config_json ? JSON.parse(config_json) : null }));
     },

@@ -200,13 +200,14 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
       };
       /** Adopt the buffer's amplitude slope (and its joint temperature term) when it passes the tests above; true when adopted. */
       const learnAmplitude = (withT: boolean): boolean => {
-        const o = { temp_C: withT ? bT : null, tempMinSpan_K: minSpan, overlap };
-        const af = fitAmplitudeSlope(bA, bp, bs, o);
-        // the same windows against a drift, straight and curved
-        const drift = Math.min(driftChi2(bt, bp, bs, withT ? bT : null, 1), driftChi2(bt, bp, bs, withT ? bT : null, 2));
-        // re-excited: some window's amplitude is 10 % above the lowest before it
+        // re-excited: some window's amplitude is 10 % above the lowest before it (checked first: it is cheap,
+        // and in a free decay it fails and spares the two fits below on every window)
         let low = Infinity, rose = false;
         for (const a of bA) { if (a > 1.1 * low) { rose = true; break; } low = Math.min(low, a); }
+        const o = { temp_C: withT ? bT : null, tempMinSpan_K: minSpan, overlap };
+        const af = rose ? fitAmplitudeSlope(bA, bp, bs, o) : null;
+        // the same windows against a drift, straight and curved
+        const drift = af ? Math.min(driftChi2(bt, bp, bs, withT ? bT : null, 1), driftChi2(bt, bp, bs, withT ? bT : null, 2)) : Infinity;
         const ok = rose && af !== null && Number.isFinite(drift)
           && af.amplitude_max_rad - af.amplitude_min_rad >= ampMinSpan * af.amplitude_ref_rad
           && Math.abs(af.slope_s_per_rad) >= SIGNIFICANCE_Z * af.slope_sigma_s_per_rad

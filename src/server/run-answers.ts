@@ -19,7 +19,6 @@ import { AnswerCache } from './answer-cache.js';
 import { TraceCache } from './trace-cache.js';
 import { BadRequest, NotFound } from './params.js';
 import { windowMemoStore } from './window-memo-store.js';
-import { windowSpanStore } from './window-span-store.js';
 import { yieldingStore } from './yielding-store.js';
 
 /** The answers of one server. */
@@ -83,7 +82,7 @@ export class RunAnswers {
    * events and marks counts are in it).
    */
   amplitude(r: RunRecord, from: number | undefined, to: number | undefined): Promise<string> {
-    return this.cache.get(`amplitude ${r.run} ${from} ${to}`, JSON.stringify(r), () => amplitudeDependence(windowSpanStore(this.store, from, to), r.run));
+    return this.cache.get(`amplitude ${r.run} ${from} ${to}`, JSON.stringify(r), () => amplitudeDependence(this.store, r.run, { from_s: from, to_s: to }));
   }
 
   /** `compare RUN [--from-s] [--to-s] --json`: the run's configurations against each other (one configuration: none to compare, said in its notes). */

@@ -88,13 +88,17 @@ function omega0(period_s: number, rate: number, damping: Damping): number {
 }
 
 /** Build the amplitude dependence of a stored run; throws RuntimeError for an unknown run. */
-export async function amplitudeDependence(store: ReadStore, runId: number, opts: { bins?: number } = {}): Promise<AmplitudeDependence> {
+export async function amplitudeDependence(
+  store: ReadStore, runId: number, opts: { bins?: number; from_s?: number; to_s?: number } = {},
+): Promise<AmplitudeDependence> {
   const run = await store.getRun(runId);
   if (!run) throw new RuntimeError(`run ${runId}: no such run in this store`);
   const so = summaryOptionsOf(run.station_config);
   const overlap = so.overlap ?? 1;
   const damping = so.context?.damping ?? 'internal';
-  const windows = await store.listWindows(runId);
+  // a span keeps the windows wholly inside [from_s, to_s), as `compare --from-s --to-s` does
+  const from = opts.from_s ?? -Infinity, to = opts.to_s ?? Infinity;
+  const windows = (await store.listWindows(runId)).filter((w) => w.t_start_s >= from && w.t_end_s < to);
   const { segmentation: sg } = await segmentStoredRun(store, run, windows, summariseWindows(windows, so).period_s);
   const alerts = periodAlertSpans(await store.listEvents(runId, { kinds: ['period-drift'] }));
   const fit = amplitudeSlopeOf(windows, sg, overlap, alerts);

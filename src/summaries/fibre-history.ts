@@ -27,6 +27,9 @@ export interface FibreHistoryRow extends Pick<RunSummaryNumbers,
   | 'equilibrium_rate_rad_per_s' | 'equilibrium_rate_sigma_rad_per_s' | 'temp_C'> {
   run: number;
   station: string;
+  /** where the run came from: its station-made uid and its number at the station (as `show`) */
+  uid: string;
+  station_run: number;
   started_at: string;
   ended_at: string | null;
   status: string;
@@ -92,7 +95,7 @@ export async function fibreHistory(store: ReadStore, name: string): Promise<Fibr
     }
     if (q) prevQ = q;
     rows.push({
-      run: r.run, station: r.station, started_at: iso(r.started_at_ms)!, ended_at: iso(r.ended_at_ms), status: r.status, samples: r.samples,
+      run: r.run, station: r.station, uid: r.uid, station_run: r.station_run, started_at: iso(r.started_at_ms)!, ended_at: iso(r.ended_at_ms), status: r.status, samples: r.samples,
       windows: s.windows, windows_ok: s.windows_ok,
       period_s: s.period_s, period_sigma_s: s.period_sigma_s, q: s.q, q_sigma: s.q_sigma,
       kappa_Nm_per_rad: s.kappa_Nm_per_rad, kappa_sigma_Nm_per_rad: s.kappa_sigma_Nm_per_rad,

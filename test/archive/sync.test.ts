@@ -184,6 +184,11 @@ describe('sync into the lab archive', () => {
     expect(uidsOf(json(['runs', '--fibre', 'W50-lot3-11', '--since', '2026-03-05', '--until', '2026-04-01', '--db', url.reader])))
       .toEqual(uidsOf(moved.filter((r) => r.started_at.startsWith('2026-03-09'))));
     expect(uidsOf(json(['runs', '--station', 'bench-b', '--db', url.reader]))).toEqual(uidsOf(all.filter((r) => r.station === 'bench-b')));
+    // the moved fibre's history in the archive: each row says which station run it is
+    const history = json(['fibre', 'W50-lot3-11', '--db', url.reader]) as { uid: string; station: string; station_run: number }[];
+    expect(uidsOf(history)).toEqual(uidsOf(moved));
+    for (const h of history) expect(all.find((r) => r.uid === h.uid)?.station).toBe(h.station);
+    expect(history.every((h) => Number.isInteger(h.station_run) && h.station_run >= 1)).toBe(true);
 
     // bench-b's fibre is bench-b's alone: its history and listing are the same as in the second PC's store
     const fibreB = json(['fibre', 'MW05-demo', '--db', B]) as { run: number }[];
