@@ -103,6 +103,8 @@ describe('record --archive', () => {
     const during = show(db);
     expect(during.status).toBe('recording');
     expect(during.archive_lag_s).toBeGreaterThan(6);
+    // and in show's text as well
+    expect(runCli(['show', '1', '--db', db]).stdout).toMatch(/^\s+lab archive\s+synced \S+, \d+\.\d s behind$/m);
     cluster.startServer();
     await rec.waitForStderr(/reachable again after \d+ s/, 30_000);
 
@@ -121,5 +123,6 @@ describe('record --archive', () => {
     const onArchive = show(url, map.get(1));
     expect(onArchive).toMatchObject({ samples: written, status: 'complete', archive_lag_s: 0 });
     expect(show(db)).toMatchObject({ samples: written, status: 'complete', archive_lag_s: 0, archive_synced_at: onArchive.archive_synced_at });
+    expect(runCli(['show', '1', '--db', db]).stdout).toMatch(/^\s+lab archive\s+synced \S+, up to date$/m);
   }, 120_000);
 });

@@ -35,6 +35,10 @@ export function renderSummary(s: ShowSummary): string {
     lines.push(row('period vs swing', `${withSigma(s.period_amplitude_slope_s_per_rad, s.period_amplitude_slope_sigma_s_per_rad, 's/rad')} (anelasticity: 0 for an elastic fibre${s.period_amplitude_slope_temperature_removed ? '; temperature removed' : ''})`));
   }
   lines.push(...noiseRows(s, row));
+  if (s.archive_synced_at !== null) {
+    const lag = s.archive_lag_s ?? 0;
+    lines.push(row('lab archive', `synced ${isoShort(s.archive_synced_at)}${lag > 0 ? `, ${lag < 60 ? `${lag.toFixed(1)} s` : duration(lag)} behind` : ', up to date'}`));
+  }
   for (const a of s.alerts) lines.push(row('alert', `${a.kind}: ${a.state} at ${isoShort(a.t)} — ${a.message}`));
   for (const w of s.warnings) lines.push(row('warning', `${w.kind}: ${w.message}`));
   return lines.map(safeText).join('\n') + '\n';
