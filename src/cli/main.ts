@@ -66,7 +66,7 @@ export function buildProgram(): Command {
     .action(lazy('fit', 'fitCommand'));
 
   p.command('record')
-    .description('acquire from the station\'s serial device until SIGINT/SIGTERM, analysing live')
+    .description('acquire from the station\'s serial device until SIGINT, SIGTERM or SIGHUP, analysing live')
     .requiredOption('--station <file>', 'station file')
     .addOption(dbOption())
     .option('--device <path>', 'override input.device')
@@ -193,7 +193,7 @@ export function buildProgram(): Command {
     .description('push a station\'s store into the lab archive on PostgreSQL (idempotent, resumable; docs/archive.md)')
     .addOption(dbOption())
     .option('--to <url>', 'the archive, postgres://USER@HOST/DATABASE (default $FIBREWATCH_ARCHIVE)')
-    .option('--watch', 'keep pushing as the store grows, through archive outages, until SIGINT/SIGTERM')
+    .option('--watch', 'keep pushing as the store grows, through archive outages, until SIGINT, SIGTERM or SIGHUP')
     .option('--init', 'only create or upgrade the archive\'s tables (as the archive\'s owner); no store needed')
     .option('--batch-mb <mb>', 'sample data per transaction, MB (each one a step a cut-off sync resumes from)', positiveNumber('--batch-mb'), 16)
     .option('--json', 'what was pushed, as one JSON object (without --watch)')

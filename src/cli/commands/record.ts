@@ -1,4 +1,4 @@
-/** `fibrewatch record --station F`: acquire from the serial device until SIGINT/SIGTERM. */
+/** `fibrewatch record --station F`: acquire from the serial device until SIGINT, SIGTERM or SIGHUP. */
 import { loadStation } from '../../config/station.js';
 import { recordRun } from '../../app/record.js';
 import { amplitudePriorFor, makeLiveSink } from '../../app/live-sink.js';
