@@ -122,16 +122,12 @@ export function buildProgram(): Command {
     .option('--json', 'JSON array')
     .action(lazy('events', 'eventsCommand'));
 
-  onRun('noise', 'the balance\'s noise, torque-referred, against its thermal limit; Allan deviations of equilibrium and period')
-    .option('--from-s <s>', 'start of the span, s since the run\'s start')
-    .option('--to-s <s>', 'end of the span (exclusive), s since the run\'s start')
+  spanOptions(onRun('noise', 'the balance\'s noise, torque-referred, against its thermal limit; Allan deviations of equilibrium and period'), '', 'the span')
     .option('--json', 'one JSON object')
     .action(lazy('noise', 'noiseCommand'));
 
-  onRun('compare', 'each configuration of a run (state channel, marks) against the others: Δθ, torque, Δperiod, with one drift model')
+  spanOptions(onRun('compare', 'each configuration of a run (state channel, marks) against the others: Δθ, torque, Δperiod, with one drift model'), '', 'the span compared')
     .option('--settle-periods <n>', 'leave out windows starting less than this many periods after a change (default 3)')
-    .option('--from-s <s>', 'compare only from here, s since the run\'s start')
-    .option('--to-s <s>', 'compare only up to here (exclusive), s since the run\'s start')
     .option('--json', 'one JSON object')
     .action(lazy('compare', 'compareCommand'));
 
@@ -163,10 +159,8 @@ export function buildProgram(): Command {
     .option('--out <file>', 'write here instead of stdout')
     .action(lazy('export', 'exportCommand'));
 
-  onRun('report', 'a self-contained HTML report with plots')
+  spanOptions(onRun('report', 'a self-contained HTML report with plots'), 'compare-', 'the span of the configurations\' comparison (as compare --from-s --to-s)')
     .requiredOption('--out <file>', 'HTML file to write')
-    .option('--compare-from-s <s>', 'compare the configurations only from here, s since the run\'s start (as compare --from-s)')
-    .option('--compare-to-s <s>', 'compare the configurations only up to here (exclusive), as compare --to-s')
     .action(lazy('report', 'reportCommand'));
 
   p.command('serve')
@@ -246,4 +240,11 @@ async function exitFor(e: unknown): Promise<number> {
   if (process.env.FIBREWATCH_DEBUG) process.stderr.write(`fibrewatch: ${err?.stack ?? err}\n`);
   else process.stderr.write(`fibrewatch: internal error: ${safeText(err instanceof Error ? `${err.name}: ${err.message}` : String(err))} (FIBREWATCH_DEBUG=1 shows where)\n`);
   return 1;
+}
+
+/** `--PREFIXfrom-s` and `--PREFIXto-s`: a span of a run in seconds since its start (checked by src/cli/span-args.ts). */
+function spanOptions(cmd: Command, prefix: string, what: string): Command {
+  return cmd
+    .option(`--${prefix}from-s <s>`, `start of ${what}, s since the run's start`)
+    .option(`--${prefix}to-s <s>`, `end of ${what} (exclusive), s since the run's start`);
 }
