@@ -162,10 +162,13 @@ describe('exposed with a token', () => {
     const exposed = await startServe(db, ['--host', '0.0.0.0', '--token', token]);
     try {
       const ctx = await browser.newContext();
-      const page = await ctx.newPage();
-      const denied = await page.goto(`${exposed.base}/runs/1`);
+      // the refusal on a page of its own: its late favicon request (refused too) must not land on the watched page
+      const refused = await ctx.newPage();
+      const denied = await refused.goto(`${exposed.base}/runs/1`);
       expect(denied?.status()).toBe(401);
-      expect(await page.textContent('main')).toMatch(/a token is needed/);
+      expect(await refused.textContent('main')).toMatch(/a token is needed/);
+      await refused.close();
+      const page = await ctx.newPage();
       const problems = watchConsole(page);
       const ok = await page.goto(`${exposed.base}/runs/1?token=${token}`);
       expect(ok?.status()).toBe(200);
