@@ -208,7 +208,7 @@ export function watchPeriod(opts: WatchPeriodOptions = {}) {
         const af = rose ? fitAmplitudeSlope(bA, bp, bs, o) : null;
         // the same windows against a drift, straight and curved
         const drift = af ? Math.min(driftChi2(bt, bp, bs, withT ? bT : null, 1), driftChi2(bt, bp, bs, withT ? bT : null, 2)) : Infinity;
-        const ok = rose && af !== null && Number.isFinite(drift)
+        const ok = af !== null && Number.isFinite(drift)
           && af.amplitude_max_rad - af.amplitude_min_rad >= ampMinSpan * af.amplitude_ref_rad
           && Math.abs(af.slope_s_per_rad) >= SIGNIFICANCE_Z * af.slope_sigma_s_per_rad
           && af.chi2 <= drift - 9 * overlap;

@@ -26,7 +26,7 @@ export interface TraceLayer {
 
 /** The report's inline data. */
 export interface ReportData {
-  summary: ShowSummary & { warnings?: { kind: string; message: string }[] };
+  summary: ShowSummary;
   /** windows stored (ok or not) */
   windows: number;
   columns: WindowColumns;

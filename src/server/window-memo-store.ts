@@ -22,11 +22,6 @@ export function windowMemoStore(store: ReadStore, runs = 4): ReadStore {
     }
     return (await e.windows).slice();
   };
-  return new Proxy(store, {
-    get(target, prop) {
-      if (prop === 'listWindows') return listWindows;
-      const v = Reflect.get(target, prop, target);
-      return typeof v === 'function' ? v.bind(target) : v;
-    },
-  });
+  // the stores are plain objects of closures (db/read-store.ts, db/pg/postgres-read-store.ts): a copy with one method replaced
+  return { ...store, listWindows };
 }

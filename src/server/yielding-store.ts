@@ -17,11 +17,6 @@ export function yieldingStore(store: ReadStore): ReadStore {
       if (++k % CHUNKS_PER_TURN === 0) await new Promise<void>((r) => setImmediate(r));
     }
   }
-  return new Proxy(store, {
-    get(target, prop) {
-      if (prop === 'chunks') return chunks;
-      const v = Reflect.get(target, prop, target);
-      return typeof v === 'function' ? v.bind(target) : v;
-    },
-  });
+  // the stores are plain objects of closures (db/read-store.ts, db/pg/postgres-read-store.ts): a copy with one method replaced
+  return { ...store, chunks };
 }

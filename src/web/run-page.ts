@@ -11,7 +11,8 @@ import type { TraceAnswer } from '../report/angle-trace.js';
 import { getJson, query } from './api.js';
 import { el, link, put } from './dom.js';
 import { openLiveStream } from './live-stream.js';
-import { RunView, type RunSummary } from './run-view.js';
+import { RunView } from './run-view.js';
+import type { ShowSummary } from '../summaries/show-summary.js';
 import { compareSpanQuery, fetchExtras, RunExtras } from './run-extras.js';
 
 type WindowRow = { index: number; status: string } & Record<string, unknown>;
@@ -21,7 +22,7 @@ export async function runPage(main: HTMLElement, run: number): Promise<void> {
   const base = `/api/runs/${run}`;
   const span = compareSpanQuery(location.search);
   const [summary, windows, events, extrasData] = await Promise.all([
-    getJson<RunSummary>(base), getJson<WindowRow[]>(`${base}/windows`), getJson<EventListing[]>(`${base}/events`), fetchExtras(base, span),
+    getJson<ShowSummary>(base), getJson<WindowRow[]>(`${base}/windows`), getJson<EventListing[]>(`${base}/events`), fetchExtras(base, span),
   ]);
   main.textContent = '';
   const source = {
@@ -57,7 +58,7 @@ export async function runPage(main: HTMLElement, run: number): Promise<void> {
     again ??= setTimeout(async () => {
       again = undefined;
       try {
-        const [s, x] = await Promise.all([getJson<RunSummary>(base), fetchExtras(base, span)]);
+        const [s, x] = await Promise.all([getJson<ShowSummary>(base), fetchExtras(base, span)]);
         view.setSummary(s);
         extras.show(x);
       } catch {

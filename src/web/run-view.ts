@@ -17,7 +17,6 @@ import { clear, el, facts, put, section, table } from './dom.js';
 import { whenText } from './time-text.js';
 
 /** A summary as the page gets it: `show --json`, with the fields other versions may add. */
-export type RunSummary = ShowSummary & { warnings?: { kind: string; message: string }[] };
 
 /** Where the run's data come from. */
 export interface RunSource {
@@ -35,7 +34,7 @@ const COLOURS = { angle: '#2b4c6f', period: '#b5651d', equilibrium: '#3b7a57', d
 
 /** The run's charts and tables, updatable as news arrives. */
 export class RunView {
-  private summary: RunSummary;
+  private summary: ShowSummary;
   private columns: WindowColumns = emptyColumns();
   private readonly windowIndexes = new Set<number>();
   private events: EventListing[] = [];
@@ -55,7 +54,7 @@ export class RunView {
   /** the run is still recording: its span reaches up to now */
   recording = false;
 
-  constructor(private readonly root: HTMLElement, private readonly source: RunSource, summary: RunSummary, private readonly opts: RunViewOptions) {
+  constructor(private readonly root: HTMLElement, private readonly source: RunSource, summary: ShowSummary, private readonly opts: RunViewOptions) {
     this.summary = summary;
     this.recording = summary.status === 'recording';
     this.header = put(root, el('div', 'run-head')).lastChild as HTMLElement;
@@ -116,7 +115,7 @@ export class RunView {
   }
 
   /** A fresh summary (after new windows). */
-  setSummary(s: RunSummary): void {
+  setSummary(s: ShowSummary): void {
     this.summary = s;
     this.recording = s.status === 'recording';
     this.renderHeader();
@@ -338,7 +337,7 @@ export class RunView {
       s.duration_s !== null ? ` · ${duration(s.duration_s)}` : '',
       ` · ${s.samples} samples · ${s.windows} windows (${s.windows_ok} ok) · ${s.gaps} gaps · ${s.events} events`);
     this.header.appendChild(line);
-    const warnings = s.warnings ?? [];
+    const warnings = s.warnings;
     if (warnings.length) {
       const w = put(this.header, el('div', 'warnings')).lastChild as HTMLElement;
       w.appendChild(el('h2', undefined, 'Warnings'));
@@ -369,10 +368,8 @@ export class RunView {
     if (s.kappa_Nm_per_rad !== undefined) rows.push(['torsion constant κ', `${withSigma(s.kappa_Nm_per_rad, s.kappa_sigma_Nm_per_rad, 'N·m/rad')} ${budgetText(s.kappa_sigma_budget)}`.trim()]);
     if (s.shear_modulus_Pa != null) rows.push(['shear modulus G', `${withSigma(s.shear_modulus_Pa / 1e9, (s.shear_modulus_sigma_Pa ?? 0) / 1e9, 'GPa')} ${budgetText(s.shear_modulus_sigma_budget)}`.trim()]);
     if (s.amplitude_rad !== null) rows.push(['amplitude (last window)', `${fmt(s.amplitude_rad)} rad`]);
-    // fields a newer summary carries (docs/commands.md, show --json), shown when present
-    const more = s as unknown as Record<string, unknown>;
-    if (typeof more.period_amplitude_slope_s_per_rad === 'number') {
-      rows.push(['period vs swing amplitude', `${withSigma(more.period_amplitude_slope_s_per_rad, more.period_amplitude_slope_sigma_s_per_rad as number | null, 's/rad')} (anelasticity: 0 for an elastic fibre)`]);
+    if (s.period_amplitude_slope_s_per_rad !== null) {
+      rows.push(['period vs swing amplitude', `${withSigma(s.period_amplitude_slope_s_per_rad, s.period_amplitude_slope_sigma_s_per_rad, 's/rad')} (anelasticity: 0 for an elastic fibre)`]);
     }
     const n = s.noise;
     if (n) {
